@@ -114,6 +114,12 @@ def decide(problem, conjecture, settings: V.Settings | None = None) -> dict:
     except InputError as e:
         res["status"] = V.INPUT_ERROR
         res["reason"] = e.render()
+    except RecursionError:
+        res["status"] = V.RESOURCE_OUT
+        res["reason"] = "terms nest too deeply for the engine (recursion limit)"
+    except Exception as e:  # a bug: report it as Error, never as a verdict
+        res["status"] = V.ERROR
+        res["reason"] = f"internal error: {type(e).__name__}: {e}"
     res["seconds"] = round(time.monotonic() - t0, 4)
     return res
 
