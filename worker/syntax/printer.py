@@ -3,17 +3,54 @@ notation.  What this prints, the native reader reads back to the same thing.
 
 Infix operators ``*`` (binds tighter) and ``+`` are printed infix and left
 associative; everything else prints as ``f(a, b)``.
+
+Names that are not native identifiers (a letter or ``_`` then letters, digits,
+``_``; or a run of digits), reserved words, and symbol names that coincide
+with a variable in scope are printed in single quotes (``'a b'``, ``'and'``);
+a quoted name always reads back as a symbol, never as a variable.  A bound
+variable whose name is already bound further out (shadowing), or is not an
+identifier, is printed under a fresh name (``x_1``), which reads back to the
+same formula.
+
+Roles: ``axiom``, ``hypothesis``, ``conjecture`` and ``negated_conjecture``
+print as themselves; every other TPTP role (definition, lemma, theorem, ...)
+prints as ``axiom`` with the original role in a comment.
 """
 
 from __future__ import annotations
+
+import re
 
 from .formulas import And, Atom, Const, Iff, Implies, Not, Or, Quant
 from .terms import EQ
 
 INFIX = {"*": 2, "+": 1}   # binding strength; higher binds tighter
 
+RESERVED = frozenset({"axiom", "hypothesis", "conjecture", "negated_conjecture",
+                      "include", "forall", "exists", "not", "and", "or", "implies",
+                      "iff", "true", "false"})
+NATIVE_ROLES = frozenset({"axiom", "hypothesis", "conjecture", "negated_conjecture"})
+
+_IDENT = re.compile(r"[^\W\d]\w*|[0-9]+")
+
 # Names the engine introduces keep their spelling; variables of clauses print
 # as X0, X1, ... unless a name map is given.
+
+
+def is_identifier(name: str) -> bool:
+    """True when ``name`` can be written bare in the native language."""
+    return _IDENT.fullmatch(name) is not None and name not in RESERVED
+
+
+def quote_name(name: str) -> str:
+    return "'" + name.replace("\\", "\\\\").replace("'", "\\'") + "'"
+
+
+def symbol_name(name: str, bound=None) -> str:
+    """How a symbol is written: bare when that reads back as the symbol."""
+    if is_identifier(name) and not (bound and name in bound):
+        return name
+    return quote_name(name)
 
 
 def var_name(v: int, names: dict | None) -> str:
@@ -22,26 +59,36 @@ def var_name(v: int, names: dict | None) -> str:
     return f"X{v}"
 
 
-def format_term(t, names: dict | None = None, _ctx: int = 0) -> str:
+def format_term(t, names: dict | None = None, _ctx: int = 0, _bound=None) -> str:
     tt = type(t)
     if tt is int:
         return var_name(t, names)
     if tt is str:
-        return t
+        return symbol_name(t, _bound)
     f = t[0]
     if f in INFIX and len(t) == 3:
         p = INFIX[f]
-        left = format_term(t[1], names, p)        # left associative
-        right = format_term(t[2], names, p + 1)
+        left = format_term(t[1], names, p, _bound)        # left associative
+        right = format_term(t[2], names, p + 1, _bound)
         s = f"{left} {f} {right}"
         return f"({s})" if p < _ctx else s
-    return f"{f}(" + ", ".join(format_term(a, names) for a in t[1:]) + ")"
+    return (symbol_name(f, _bound) + "("
+            + ", ".join(format_term(a, names, 0, _bound) for a in t[1:]) + ")")
 
 
-def format_atom(a, names: dict | None = None) -> str:
+def _format_pred(a, names, bound) -> str:
+    """An atom that is not an equation: a predicate named like an infix
+    operator is written in prefix form with a quoted name."""
+    if type(a) is tuple and a[0] in INFIX:
+        return (quote_name(a[0]) + "("
+                + ", ".join(format_term(x, names, 0, bound) for x in a[1:]) + ")")
+    return format_term(a, names, 0, bound)
+
+
+def format_atom(a, names: dict | None = None, _bound=None) -> str:
     if type(a) is tuple and a[0] == EQ and len(a) == 3:
-        return f"{format_term(a[1], names)} = {format_term(a[2], names)}"
-    return format_term(a, names)
+        return f"{format_term(a[1], names, 0, _bound)} = {format_term(a[2], names, 0, _bound)}"
+    return _format_pred(a, names, _bound)
 
 
 def format_literal(lit, names: dict | None = None) -> str:
@@ -49,7 +96,7 @@ def format_literal(lit, names: dict | None = None) -> str:
     if type(a) is tuple and a[0] == EQ and len(a) == 3:
         op = "=" if sign else "!="
         return f"{format_term(a[1], names)} {op} {format_term(a[2], names)}"
-    s = format_term(a, names)
+    s = _format_pred(a, names, None)
     return s if sign else f"not {s}"
 
 
@@ -63,41 +110,110 @@ def format_clause(lits, names: dict | None = None) -> str:
 _P_IFF, _P_IMP, _P_OR, _P_AND, _P_UNARY = 1, 2, 3, 4, 5
 
 
+class _Names:
+    """Printed names of bound variables, kept unambiguous while printing."""
+
+    __slots__ = ("given", "printed", "bound")
+
+    def __init__(self, given):
+        self.given = given or {}
+        self.printed: dict = {}     # var -> printed name (for variables in scope)
+        self.bound: dict = {}       # printed name -> count of binders in scope
+
+    def bind(self, v: int) -> str:
+        want = self.given.get(v) or f"X{v}"
+        if not is_identifier(want) or want[0].isdigit():
+            want = f"X{v}"
+        name = want
+        n = 0
+        while name in self.bound or not is_identifier(name):
+            n += 1
+            name = f"{want}_{n}"
+        self.printed[v] = name
+        self.bound[name] = 1
+        return name
+
+    def unbind(self, v: int, name: str, old) -> None:
+        del self.bound[name]
+        if old is None:
+            self.printed.pop(v, None)
+        else:
+            self.printed[v] = old
+
+
 def format_formula(f, names: dict | None = None, _ctx: int = 0) -> str:
     """Print a formula with the fewest parentheses that read back the same."""
+    return _fmt(f, _Names(names), _ctx)
+
+
+def _fmt(f, nm: _Names, ctx: int) -> str:
     if isinstance(f, Atom):
-        return format_atom(f.term, names)
+        return format_atom(f.term, _VarView(nm), nm.bound)
     if isinstance(f, Const):
         return "true" if f.value else "false"
     if isinstance(f, Not):
         a = f.arg
         if isinstance(a, Atom) and type(a.term) is tuple and a.term[0] == EQ:
-            return (f"{format_term(a.term[1], names)} != "
-                    f"{format_term(a.term[2], names)}")
-        return "not " + format_formula(a, names, _P_UNARY)
+            view = _VarView(nm)
+            return (f"{format_term(a.term[1], view, 0, nm.bound)} != "
+                    f"{format_term(a.term[2], view, 0, nm.bound)}")
+        return "not " + _fmt(a, nm, _P_UNARY)
     if isinstance(f, Quant):
-        vs = " ".join(var_name(v, names) for v in f.vars)
-        s = f"{f.kind} {vs}. {format_formula(f.body, names, 0)}"
-        return f"({s})" if _ctx > 0 else s
+        olds = [(v, nm.printed.get(v)) for v in f.vars]
+        vs = [nm.bind(v) for v in f.vars]
+        s = f"{f.kind} {' '.join(vs)}. {_fmt(f.body, nm, 0)}"
+        for (v, old), name in zip(reversed(olds), reversed(vs)):
+            nm.unbind(v, name, old)
+        return f"({s})" if ctx > 0 else s
     if isinstance(f, And):
-        s = " and ".join(format_formula(a, names, _P_AND + 1) for a in f.args)
-        return f"({s})" if _P_AND < _ctx else s
+        s = " and ".join(_fmt(a, nm, _P_AND + 1) for a in f.args)
+        return f"({s})" if _P_AND < ctx else s
     if isinstance(f, Or):
-        s = " or ".join(format_formula(a, names, _P_OR + 1) for a in f.args)
-        return f"({s})" if _P_OR < _ctx else s
+        s = " or ".join(_fmt(a, nm, _P_OR + 1) for a in f.args)
+        return f"({s})" if _P_OR < ctx else s
     if isinstance(f, Implies):   # right associative
-        s = (f"{format_formula(f.left, names, _P_IMP + 1)} implies "
-             f"{format_formula(f.right, names, _P_IMP)}")
-        return f"({s})" if _P_IMP < _ctx else s
+        s = f"{_fmt(f.left, nm, _P_IMP + 1)} implies {_fmt(f.right, nm, _P_IMP)}"
+        return f"({s})" if _P_IMP < ctx else s
     if isinstance(f, Iff):
-        s = (f"{format_formula(f.left, names, _P_IFF + 1)} iff "
-             f"{format_formula(f.right, names, _P_IFF + 1)}")
-        return f"({s})" if _P_IFF < _ctx else s
+        s = f"{_fmt(f.left, nm, _P_IFF + 1)} iff {_fmt(f.right, nm, _P_IFF + 1)}"
+        return f"({s})" if _P_IFF < ctx else s
     raise TypeError(f"not a formula: {f!r}")
 
 
+class _VarView(dict):
+    """A read-only mapping var -> printed name for format_term (free
+    variables fall back to the given names, then X<n>)."""
+
+    __slots__ = ("nm",)
+
+    def __init__(self, nm: _Names):
+        super().__init__()
+        self.nm = nm
+
+    def __contains__(self, v):
+        return True
+
+    def __getitem__(self, v):
+        p = self.nm.printed.get(v)
+        if p is not None:
+            return p
+        return self.nm.given.get(v) or f"X{v}"
+
+    def __bool__(self):
+        return True
+
+
+def statement_keyword(role: str) -> str:
+    return role if role in NATIVE_ROLES else "axiom"
+
+
 def format_statement(st) -> str:
-    return f"{st.role} {st.name}: {format_formula(st.formula, st.varnames)}"
+    kw = statement_keyword(st.role)
+    head = f"{kw} {symbol_name(st.name)}: "
+    body = format_formula(st.formula, st.varnames)
+    if kw != st.role:
+        return f"# {st.role}\n{head}{body}"
+    return head + body
 
 
 def format_problem(problem) -> str:
