@@ -1,0 +1,252 @@
+"""``nightjar check`` and ``nightjar clausify``: read problems and show what
+was read.  Output formats are documented in DEVELOPERS.md, "Reading
+problems".
+
+Exit codes: 0 every file fine, 1 an input error in some file, 2 a usage
+error (raised through ``service.cli``).
+"""
+
+from __future__ import annotations
+
+import json
+import sys
+
+from worker.syntax import disk_reader, load_problem, require_conjecture
+from worker.syntax.errors import InputError
+from worker.syntax.printer import format_clause
+
+JSON_VERSION = 1
+
+
+def _clausifier():
+    try:
+        from worker.clausify import clausify
+    except ImportError:
+        return None
+    return clausify
+
+
+def register(subparsers) -> None:
+    p = subparsers.add_parser(
+        "check", help="read problem files and report statements, symbols, clauses",
+        description="Read each FILE (native .nj or TPTP fof/cnf), follow its "
+                    "includes, check its symbols and clausify each proof "
+                    "obligation.  Exit 0 when every file is fine, 1 on an input "
+                    "error.")
+    p.add_argument("files", nargs="+", metavar="FILE")
+    _common(p)
+    p.add_argument("--require-conjecture", action="store_true",
+                   help="treat a file without a conjecture as an error")
+    p.add_argument("--json", action="store_true", help="machine-readable output")
+    p.set_defaults(func=run_check)
+
+    c = subparsers.add_parser(
+        "clausify", help="print the clauses of a problem with their provenance",
+        description="Read FILE and print the input clauses of each proof "
+                    "obligation (or only of --conjecture NAME), each with the "
+                    "statement it came from and the Skolem and definition "
+                    "symbols it uses.")
+    c.add_argument("file", metavar="FILE")
+    _common(c)
+    c.add_argument("--conjecture", metavar="NAME",
+                   help="only the obligation of this conjecture")
+    c.add_argument("--json", action="store_true", help="machine-readable output")
+    c.set_defaults(func=run_clausify)
+
+
+def _common(p) -> None:
+    p.add_argument("--language", choices=("native", "tptp"),
+                   help="read every file in this language (default: told apart "
+                        "from the text)")
+    p.add_argument("--include-root", metavar="DIR",
+                   help="second place to look for included files, e.g. a TPTP "
+                        "axiom library (default: $NIGHTJAR_TPTP_ROOT)")
+
+
+def _load(path, args):
+    return load_problem(path, disk_reader(), language=args.language,
+                        include_root=args.include_root)
+
+
+# ------------------------------------------------------------------- check
+
+def check_file(path: str, args) -> dict:
+    """The JSON report of one file (raises InputError)."""
+    problem = _load(path, args)
+    if getattr(args, "require_conjecture", False):
+        require_conjecture(problem)
+    report = {
+        "file": path,
+        "ok": True,
+        "language": problem.language,
+        "files_read": list(problem.files),
+        "statements": [
+            {"name": s.name, "role": s.role, "language": s.language,
+             "file": s.span.file if s.span else None,
+             "line": s.span.line if s.span else None,
+             "col": s.span.col if s.span else None}
+            for s in problem.statements],
+        "symbols": [
+            {"name": sym.name, "kind": sym.kind, "arity": sym.arity}
+            for sym in sorted(problem.signature.values(),
+                              key=lambda s: (s.kind, s.name))],
+        "obligations": None,
+        "error": None,
+    }
+    clausify = _clausifier()
+    if clausify is not None:
+        obs = []
+        for conj in problem.obligations():
+            cp = clausify(problem, conj)
+            obs.append({
+                "conjecture": conj,
+                "clauses": len(cp.clauses),
+                "trivial": cp.trivial,
+                "skolems": [{"name": k.name, "arity": k.arity,
+                             "statement": k.statement, "variable": k.variable}
+                            for k in cp.skolems.values()],
+                "definitions": len(cp.definitions),
+            })
+        report["obligations"] = obs
+    return report
+
+
+def _table(rows, indent="    ") -> list:
+    if not rows:
+        return []
+    widths = [max(len(str(r[i])) for r in rows) for i in range(len(rows[0]))]
+    out = []
+    for r in rows:
+        cells = [str(c).ljust(w) for c, w in zip(r, widths)]
+        out.append((indent + "  ".join(cells)).rstrip())
+    return out
+
+
+def render_check(rep: dict) -> str:
+    n_files = len(rep["files_read"])
+    lines = [f"{rep['file']}: fine ({rep['language']}, {len(rep['statements'])} "
+             f"statements, {n_files} file{'s' if n_files != 1 else ''} read)"]
+    lines.append("  statements")
+    lines += _table([(s["role"], s["name"], f"{s['file']}:{s['line']}")
+                     for s in rep["statements"]])
+    lines.append("  symbols")
+    lines += _table([(s["name"], s["kind"], f"arity {s['arity']}")
+                     for s in rep["symbols"]])
+    obs = rep["obligations"]
+    if obs is None:
+        lines.append("  clauses: not computed (the clausifier is not installed)")
+    else:
+        lines.append("  obligations")
+        rows = []
+        for o in obs:
+            what = f"conjecture {o['conjecture']}" if o["conjecture"] else "satisfiability"
+            sk = ", ".join(f"{k['name']}/{k['arity']}" for k in o["skolems"]) or "-"
+            rows.append((what, f"{o['clauses']} clauses",
+                         f"{o['definitions']} definitions", f"skolem: {sk}"))
+        lines += _table(rows)
+        for o in obs:
+            if o["trivial"]:
+                lines.append(f"    note: {o['trivial']}")
+    return "\n".join(lines)
+
+
+def run_check(args) -> int:
+    reports = []
+    failed = False
+    for path in args.files:
+        try:
+            rep = check_file(path, args)
+        except InputError as e:
+            failed = True
+            rep = {"file": path, "ok": False, "error": e.to_json()}
+            if not args.json:
+                print(e.render(), file=sys.stderr)
+        else:
+            if not args.json:
+                print(render_check(rep))
+        reports.append(rep)
+    if args.json:
+        json.dump({"version": JSON_VERSION, "ok": not failed, "files": reports},
+                  sys.stdout, indent=2, ensure_ascii=False)
+        sys.stdout.write("\n")
+    return 1 if failed else 0
+
+
+# ---------------------------------------------------------------- clausify
+
+def clausify_report(path: str, args) -> dict:
+    from service.cli import UsageError
+    from worker.syntax.terms import clause_to_json
+    problem = _load(path, args)
+    clausify = _clausifier()
+    if clausify is None:
+        raise UsageError("clausify is not available: worker.clausify is not "
+                         "installed in this build")
+    if args.conjecture is not None:
+        names = [s.name for s in problem.conjectures()]
+        if args.conjecture not in names:
+            raise UsageError(f"'{path}' has no conjecture named '{args.conjecture}'"
+                             + (f"; its conjectures are: {', '.join(names)}" if names
+                                else "; it has no conjecture"))
+        wanted = [args.conjecture]
+    else:
+        wanted = problem.obligations()
+    obs = []
+    for conj in wanted:
+        cp = clausify(problem, conj)
+        obs.append({
+            "conjecture": conj,
+            "trivial": cp.trivial,
+            "clauses": [{"id": i + 1, "clause": clause_to_json(c.lits),
+                         "text": format_clause(c.lits), "source": c.source,
+                         "role": c.role, "conj": c.conj,
+                         "skolems": list(c.skolems), "definitions": list(c.definitions)}
+                        for i, c in enumerate(cp.clauses)],
+            "skolems": {k.name: {"arity": k.arity, "statement": k.statement,
+                                 "variable": k.variable}
+                        for k in cp.skolems.values()},
+            "definitions": {d.name: {"arity": d.arity, "statement": d.statement,
+                                     "formula": d.formula, "polarity": d.polarity}
+                            for d in cp.definitions.values()},
+            "figures": dict(cp.figures),
+        })
+    return {"version": JSON_VERSION, "file": path, "language": problem.language,
+            "obligations": obs}
+
+
+def render_clausify(rep: dict) -> str:
+    lines = []
+    for o in rep["obligations"]:
+        what = (f"conjecture {o['conjecture']}" if o["conjecture"]
+                else "no conjecture (satisfiability)")
+        lines.append(f"{rep['file']}: {what}: {len(o['clauses'])} clauses")
+        if o["trivial"]:
+            lines.append(f"  note: {o['trivial']}")
+        rows = []
+        for c in o["clauses"]:
+            prov = c["source"] + (" (negated conjecture)" if c["conj"] else "")
+            extra = ", ".join(c["skolems"] + c["definitions"])
+            rows.append((f"{c['id']}.", c["text"], f"from {prov}" + (f"; uses {extra}" if extra else "")))
+        lines += _table(rows, "  ")
+        if o["skolems"]:
+            lines.append("  skolem symbols")
+            lines += _table([(n, f"arity {k['arity']}", f"from {k['statement']}",
+                              f"for {k['variable']}" if k["variable"] else "")
+                             for n, k in o["skolems"].items()])
+        if o["definitions"]:
+            lines.append("  definitions")
+            pol = {1: "implies", -1: "implied by", 0: "iff"}
+            lines += _table([(n, f"arity {d['arity']}", f"from {d['statement']}",
+                              f"{pol.get(d['polarity'], '?')} {d['formula']}")
+                             for n, d in o["definitions"].items()])
+    return "\n".join(lines)
+
+
+def run_clausify(args) -> int:
+    rep = clausify_report(args.file, args)
+    if args.json:
+        json.dump(rep, sys.stdout, indent=2, ensure_ascii=False)
+        sys.stdout.write("\n")
+    else:
+        print(render_clausify(rep))
+    return 0
