@@ -1,0 +1,18 @@
+% problem: Pelletier 10
+% source: F. J. Pelletier, "Seventy-five problems for testing automatic theorem provers", Journal of Automated Reasoning 2, 1986
+% written from memory: yes, not copied from the paper; the symbol names are ours
+% expected status: Theorem
+% kind: propositional
+% checked: propositional; sympy finds the premises with the negated conjecture unsatisfiable and the premises satisfiable
+
+fof(h1, axiom,
+    q => r).
+
+fof(h2, axiom,
+    r => (p & q)).
+
+fof(h3, axiom,
+    p => (q | r)).
+
+fof(pel10_goal, conjecture,
+    p <=> q).
