@@ -1,0 +1,404 @@
+"""The JSON HTTP API (a Flask blueprint mounted under ``/api``).
+
+    GET  /api/health                          no token needed
+    POST /api/submissions                     one problem, or a batch   -> 202
+    GET  /api/batches                         the caller's batches, newest first
+    GET  /api/batches/<id>                    counts per state and verdict, progress
+    GET  /api/batches/<id>/jobs               ?state=&verdict=&offset=&limit=
+    POST /api/batches/<id>/cancel
+    GET  /api/jobs/<id>                       the job record
+    GET  /api/jobs/<id>/proof                 proof as JSON and as text
+    GET  /api/jobs/<id>/model                 countermodel as JSON and as text
+    GET  /api/jobs/<id>/figures
+    GET  /api/jobs/<id>/problem               the problem text as submitted
+    POST /api/jobs/<id>/cancel
+
+Submissions are read and clausified before anything is stored; bad input is
+answered 400 with the reader's ``file:line:col`` message and nothing is kept.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import json
+import posixpath
+
+import redis
+from flask import Blueprint, current_app, g, jsonify, request
+
+from .auth import api_error, owns, require_owner
+from .config import QUEUE_BATCH, QUEUE_INTERACTIVE, QUEUES
+from .store import FINAL_STATES, STATES
+
+bp = Blueprint("api", __name__, url_prefix="/api")
+
+
+def svc():
+    return current_app.extensions["nightjar"]
+
+
+class BadRequest(Exception):
+    def __init__(self, code, message, status=400, **extra):
+        super().__init__(message)
+        self.code, self.message, self.status, self.extra = code, message, status, extra
+
+
+@bp.errorhandler(BadRequest)
+def _bad(e: BadRequest):
+    return api_error(e.status, e.code, e.message, **e.extra)
+
+
+@bp.errorhandler(redis.RedisError)
+def _redis_down(e):
+    return api_error(503, "storage_unavailable", f"the store is not answering: {e}")
+
+
+# -- reading submissions ---------------------------------------------------
+
+def _bundle(obj, where: str) -> dict:
+    if not isinstance(obj, dict):
+        raise BadRequest("bad_request", f"{where} must be an object with 'main' and 'files'")
+    main, files = obj.get("main"), obj.get("files")
+    if not isinstance(main, str) or not main:
+        raise BadRequest("bad_request", f"{where}.main must be a file name")
+    if not isinstance(files, dict) or not files or not all(
+            isinstance(k, str) and isinstance(v, str) for k, v in files.items()):
+        raise BadRequest("bad_request", f"{where}.files must map file names to texts")
+    if main not in files:
+        raise BadRequest("bad_request", f"{where}: the main file {main!r} is not among its files")
+    lang = obj.get("language")
+    if lang not in (None, "native", "tptp"):
+        raise BadRequest("bad_request", f"{where}.language must be 'native' or 'tptp'")
+    return {"main": main, "files": dict(files), "language": lang}
+
+
+def _looks_tptp(name: str, text: str) -> bool:
+    from worker.syntax import detect_language
+    return detect_language(text, name) == "tptp"
+
+
+def _with_axioms(axioms: dict, name: str, text: str) -> dict:
+    """A bundle of one conjecture file that includes the axiom file.  The
+    include goes at the end so the conjecture's own lines keep their numbers."""
+    if name in axioms["files"]:
+        raise BadRequest("bad_request", f"conjecture file {name!r} has the same name "
+                                        f"as a file of the axioms")
+    rel = posixpath.relpath(axioms["main"], posixpath.dirname(name) or ".")
+    if _looks_tptp(name, text):
+        inc = f"include('{rel}')."
+    else:
+        inc = f'include "{rel}"'
+    sep = "" if text.endswith("\n") or not text else "\n"
+    files = dict(axioms["files"])
+    files[name] = f"{text}{sep}{inc}\n"
+    return {"main": name, "files": files, "language": None}
+
+
+def check_problem(bundle: dict) -> list:
+    """Read and clausify; returns the obligations.  Raises InputError."""
+    from worker.clausify import clausify
+    from worker.syntax import bundle_reader, load_problem
+
+    problem = load_problem(bundle["main"], bundle_reader(bundle["files"]),
+                           language=bundle.get("language"))
+    obligations = problem.obligations()
+    for c in obligations:
+        clausify(problem, c)
+    return obligations
+
+
+def _number(body, key, default, lo=None, hi=None, what=""):
+    v = body.get(key, default)
+    if v is None:
+        return default
+    if isinstance(v, bool) or not isinstance(v, (int, float)):
+        raise BadRequest("bad_request", f"{key} must be a number")
+    if lo is not None and v < lo:
+        raise BadRequest("bad_request", f"{key} must be at least {lo}")
+    if hi is not None and v > hi:
+        raise BadRequest("limit", f"{key} {v} is over the server's limit of {hi}{what}",
+                         limit=hi)
+    return v
+
+
+def _reuse_key(bundle, conjecture, time_limit, settings) -> str:
+    canon = json.dumps({"files": bundle["files"], "main": bundle["main"],
+                        "language": bundle.get("language"), "conjecture": conjecture,
+                        "time_limit": time_limit, "settings": settings},
+                       sort_keys=True, separators=(",", ":"))
+    return hashlib.sha256(canon.encode()).hexdigest()
+
+
+@bp.post("/submissions")
+@require_owner
+def submit():
+    from worker.syntax.errors import InputError
+
+    s = svc()
+    cfg = s.config
+    body = request.get_json(silent=True)
+    if not isinstance(body, dict):
+        raise BadRequest("bad_request", "the body must be a JSON object")
+    time_limit = float(_number(body, "time_limit", cfg.default_time_limit, lo=0.01,
+                               hi=cfg.max_time_limit, what=" seconds"))
+    strategy = body.get("strategy")
+    if strategy is not None and not isinstance(strategy, str):
+        raise BadRequest("bad_request", "strategy must be a name")
+    label = body.get("label")
+    if label is not None and (not isinstance(label, str) or len(label) > 200):
+        raise BadRequest("bad_request", "label must be a text of at most 200 characters")
+    reuse = bool(body.get("reuse", False))
+    settings = {"strategy": strategy} if strategy else {}
+
+    # Build the bundles (one per problem file) ...
+    if "problem" in body:
+        bundles = [_bundle(body["problem"], "problem")]
+        queue_name = QUEUE_INTERACTIVE
+    elif "problems" in body:
+        items = body["problems"]
+        if not isinstance(items, list) or not items:
+            raise BadRequest("bad_request", "problems must be a non-empty list")
+        if len(items) > cfg.max_jobs_per_batch:
+            raise BadRequest("too_many_jobs", f"{len(items)} problems in one batch; the "
+                             f"limit is {cfg.max_jobs_per_batch}", limit=cfg.max_jobs_per_batch)
+        bundles = [_bundle(p, f"problems[{i}]") for i, p in enumerate(items)]
+        queue_name = QUEUE_BATCH
+    elif "conjectures" in body:
+        axioms = _bundle(body.get("axioms"), "axioms")
+        items = body["conjectures"]
+        if not isinstance(items, list) or not items:
+            raise BadRequest("bad_request", "conjectures must be a non-empty list")
+        if len(items) > cfg.max_jobs_per_batch:
+            raise BadRequest("too_many_jobs", f"{len(items)} conjectures in one batch; the "
+                             f"limit is {cfg.max_jobs_per_batch}", limit=cfg.max_jobs_per_batch)
+        bundles = []
+        for i, c in enumerate(items):
+            if not (isinstance(c, dict) and isinstance(c.get("name"), str)
+                    and isinstance(c.get("text"), str) and c["name"]):
+                raise BadRequest("bad_request", f"conjectures[{i}] must have a name and a text")
+            bundles.append(_with_axioms(axioms, c["name"], c["text"]))
+        queue_name = QUEUE_BATCH
+    else:
+        raise BadRequest("bad_request", "give 'problem', 'problems', or 'axioms' with "
+                                        "'conjectures'")
+    if body.get("queue") is not None:
+        q = body["queue"]
+        if q not in ("interactive", "batch"):
+            raise BadRequest("bad_request", "queue must be 'interactive' or 'batch'")
+        queue_name = QUEUE_INTERACTIVE if q == "interactive" else QUEUE_BATCH
+
+    # ... read and clausify every one before anything is stored ...
+    jobs = []
+    for b in bundles:
+        try:
+            obligations = check_problem(b)
+        except InputError as e:
+            return jsonify({"error": {"code": "input_error", **e.to_json()}}), 400
+        for c in obligations:
+            jobs.append({"file": b["main"], "conjecture": c, "bundle": b,
+                         "time_limit": time_limit,
+                         "reuse_key": _reuse_key(b, c, time_limit, settings)})
+            if len(jobs) > cfg.max_jobs_per_batch:
+                raise BadRequest("too_many_jobs", f"more than {cfg.max_jobs_per_batch} proof "
+                                 f"obligations in one submission",
+                                 limit=cfg.max_jobs_per_batch)
+
+    reused = {}
+    if reuse:
+        for i, j in enumerate(jobs):
+            src = s.store.find_reusable(g.owner, j["reuse_key"])
+            if src is not None:
+                reused[i] = src
+    # ... then store and queue in one transaction.
+    bid, ids = s.store.create_batch(g.owner, jobs, label=label, queue_name=queue_name,
+                                    settings=settings, enqueue=s.dispatcher.enqueue,
+                                    reused=reused)
+    out = {"batch": bid, "jobs": [
+        {"id": jid, "file": j["file"], "conjecture": j["conjecture"],
+         "state": "done" if i in reused else "queued",
+         "reused": i in reused} for i, (jid, j) in enumerate(zip(ids, jobs))]}
+    resp = jsonify(out)
+    resp.status_code = 202
+    resp.headers["Location"] = f"/api/batches/{bid}"
+    return resp
+
+
+# -- reading records -------------------------------------------------------
+
+def _job_or_404(jid):
+    rec = svc().store.get_job(jid)
+    if not owns(rec):
+        raise BadRequest("not_found", f"no job {jid}", status=404)
+    return rec
+
+
+def _batch_or_404(bid):
+    rec = svc().store.get_batch(bid)
+    if not owns(rec):
+        raise BadRequest("not_found", f"no batch {bid}", status=404)
+    return rec
+
+
+@bp.get("/jobs/<jid>")
+@require_owner
+def job(jid):
+    return jsonify(_job_or_404(jid))
+
+
+def format_proof_text(proof):
+    try:
+        from worker.saturation.proof import format_proof
+    except ImportError:
+        return None
+    try:
+        return format_proof(proof)
+    except Exception as e:   # a printer bug must not hide the proof itself
+        return f"(the proof could not be printed: {type(e).__name__}: {e})"
+
+
+def format_model_text(model):
+    try:
+        from worker.models.display import format_model
+    except ImportError:
+        return None
+    try:
+        return format_model(model)
+    except Exception as e:
+        return f"(the model could not be printed: {type(e).__name__}: {e})"
+
+
+@bp.get("/jobs/<jid>/proof")
+@require_owner
+def job_proof(jid):
+    rec = _job_or_404(jid)
+    res = svc().store.get_result(jid)
+    proof = res["proof"]
+    return jsonify({"id": jid, "state": rec["state"], "verdict": rec["verdict"],
+                    "proof": proof, "axioms_used": rec.get("axioms_used") or [],
+                    "text": format_proof_text(proof) if proof else None})
+
+
+@bp.get("/jobs/<jid>/model")
+@require_owner
+def job_model(jid):
+    rec = _job_or_404(jid)
+    model = svc().store.get_result(jid)["model"]
+    return jsonify({"id": jid, "state": rec["state"], "verdict": rec["verdict"],
+                    "model": model, "text": format_model_text(model) if model else None})
+
+
+@bp.get("/jobs/<jid>/figures")
+@require_owner
+def job_figures(jid):
+    rec = _job_or_404(jid)
+    return jsonify({"id": jid, "state": rec["state"], "seconds": rec["seconds"],
+                    "figures": svc().store.get_result(jid)["figures"]})
+
+
+@bp.get("/jobs/<jid>/problem")
+@require_owner
+def job_problem(jid):
+    rec = _job_or_404(jid)
+    raw = svc().store.get_job_raw(jid)
+    bundle = svc().store.load_problem_bundle(raw["problem"])
+    if bundle is None:
+        raise BadRequest("not_found", f"the problem text of job {jid} is gone", status=404)
+    return jsonify({"id": jid, "conjecture": rec["conjecture"], **bundle,
+                    "text": bundle["files"][bundle["main"]]})
+
+
+@bp.post("/jobs/<jid>/cancel")
+@require_owner
+def job_cancel(jid):
+    rec = _job_or_404(jid)
+    return jsonify(_cancel_one(jid, rec))
+
+
+def _cancel_one(jid, rec=None):
+    s = svc()
+    was = s.store.cancel(jid)
+    if was == "running":
+        rec = rec or s.store.get_job(jid)
+        s.dispatcher.stop(jid, int(rec.get("attempts") or 1))
+    now = s.store.get_job(jid)
+    return {"id": jid, "state": now["state"], "was": was or now["state"],
+            "cancelled": was is not None}
+
+
+@bp.get("/batches")
+@require_owner
+def batches():
+    offset, limit = _paging()
+    store = svc().store
+    out = [store.get_batch(b) for b in store.owner_batches(g.owner, offset, limit)]
+    return jsonify({"batches": [b for b in out if b], "offset": offset, "limit": limit})
+
+
+@bp.get("/batches/<bid>")
+@require_owner
+def batch(bid):
+    return jsonify(_batch_or_404(bid))
+
+
+def _paging():
+    def num(name, default):
+        v = request.args.get(name)
+        if v is None:
+            return default
+        try:
+            n = int(v)
+        except ValueError:
+            raise BadRequest("bad_request", f"{name} must be a whole number")
+        if n < 0:
+            raise BadRequest("bad_request", f"{name} must not be negative")
+        return n
+    limit = num("limit", 100)
+    if limit > svc().config.max_page:
+        raise BadRequest("limit", f"limit is at most {svc().config.max_page}",
+                         limit=svc().config.max_page)
+    return num("offset", 0), limit
+
+
+@bp.get("/batches/<bid>/jobs")
+@require_owner
+def batch_jobs(bid):
+    _batch_or_404(bid)
+    state = request.args.get("state") or None
+    verdict = request.args.get("verdict") or None
+    if state is not None and state not in STATES:
+        raise BadRequest("bad_request", f"state must be one of {', '.join(STATES)}")
+    offset, limit = _paging()
+    total, jobs = svc().store.batch_jobs(bid, state=state, verdict=verdict,
+                                         offset=offset, limit=limit)
+    return jsonify({"batch": bid, "total": total, "offset": offset, "limit": limit,
+                    "jobs": jobs})
+
+
+@bp.post("/batches/<bid>/cancel")
+@require_owner
+def batch_cancel(bid):
+    _batch_or_404(bid)
+    store = svc().store
+    n = {"cancelled": 0, "already_settled": 0}
+    for jid in store.batch_job_ids(bid):
+        r = _cancel_one(jid)
+        n["cancelled" if r["cancelled"] else "already_settled"] += 1
+    return jsonify({"batch": bid, **n})
+
+
+@bp.get("/health")
+def health():
+    s = svc()
+    try:
+        s.redis.ping()
+        from rq import Worker
+        workers = len(Worker.all(connection=s.redis))
+        queues = {name: s.dispatcher.queues[name].count for name in QUEUES}
+        running = s.redis.scard(s.store.K_RUNNING)
+    except redis.RedisError as e:
+        return api_error(503, "storage_unavailable", f"the store is not answering: {e}")
+    return jsonify({"ok": True, "service": "nightjar", "workers": workers,
+                    "queued": queues, "running": running})
+
+
+__all__ = ["bp", "check_problem", "FINAL_STATES"]

@@ -1,0 +1,156 @@
+"""RQ wiring: enqueueing attempts, stopping them, the worker loop, and the
+sweeper that settles the jobs of workers that died.
+
+RQ only dispatches.  Each attempt of a job is one RQ job with the id
+``<job id>-<attempt>`` running ``worker.jobs.attempt(job_id)``; its RQ
+timeout is the job's time limit plus the grace period (the hard stop).  Our
+records in :mod:`service.store` say what happened; RQ's own results expire.
+"""
+
+from __future__ import annotations
+
+import logging
+import os
+import socket
+import threading
+import time
+
+import redis
+from rq import Queue, Worker
+from rq.command import send_stop_job_command
+
+from .config import Config, QUEUE_BATCH, QUEUE_INTERACTIVE, QUEUES
+from .store import Store
+
+log = logging.getLogger("nightjar.queue")
+
+RQ_RESULT_TTL = 600          # RQ's own copy of a return value; ours lasts
+RQ_FAILURE_TTL = 24 * 3600
+
+
+def connect(url: str) -> redis.Redis:
+    return redis.Redis.from_url(url, decode_responses=False,
+                                socket_connect_timeout=5, health_check_interval=10)
+
+
+def rq_id(job_id: str, attempt: int) -> str:
+    return f"{job_id}-{attempt}"
+
+
+class Dispatcher:
+    """Puts attempts on the RQ queues and stops them."""
+
+    def __init__(self, r: redis.Redis, config: Config):
+        self.r = r
+        self.config = config
+        self.queues = {name: Queue(name, connection=r) for name in QUEUES}
+
+    def enqueue(self, pipe, job_id: str, time_limit: float,
+                queue_name: str | None = None, attempts_done: int = 0) -> None:
+        """Add the RQ enqueue of the next attempt to ``pipe`` (a MULTI
+        pipeline of the same connection), so record and queue entry commit
+        together."""
+        q = self.queues[queue_name or QUEUE_BATCH]
+        q.enqueue_call("worker.jobs.attempt", args=(job_id,),
+                       timeout=int(time_limit + self.config.grace_seconds) + 1,
+                       job_id=rq_id(job_id, attempts_done + 1),
+                       result_ttl=RQ_RESULT_TTL, failure_ttl=RQ_FAILURE_TTL,
+                       description=f"nightjar job {job_id}", pipeline=pipe)
+
+    def stop(self, job_id: str, attempts: int) -> bool:
+        """Ask the worker running ``job_id`` to kill its work horse."""
+        try:
+            send_stop_job_command(self.r, rq_id(job_id, attempts))
+            return True
+        except Exception as e:  # not running any more, or RQ lost it: fine
+            log.info("stop %s: %s", job_id, e)
+            return False
+
+
+def sweep(store: Store, dispatcher: Dispatcher, config: Config) -> list[tuple[str, str]]:
+    """Settle running jobs whose attempt stopped saying it is alive (its
+    worker was killed, its machine lost): retry once, then fail with the
+    reason.  Safe to run anywhere, any number of times at once: every change
+    is a guarded transition.  Returns [(job id, "retried" | "failed")]."""
+    out = []
+    for jid in store.running_jobs():
+        if store.is_alive(jid):
+            continue
+        rec = store.get_job_raw(jid)
+        if rec is None or rec.get("state") != "running":
+            store.r.srem(store.K_RUNNING, jid)
+            continue
+        attempts = int(rec.get("attempts") or 0)
+        who = rec.get("worker") or "?"
+        if attempts < config.max_attempts:
+            reason = (f"attempt {attempts} was lost (worker {who} stopped "
+                      f"answering); retried")
+            if store.requeue(jid, reason, dispatcher.enqueue):
+                out.append((jid, "retried"))
+        else:
+            reason = (f"failed: the worker running it stopped answering "
+                      f"{attempts} times (last: {who}); not retried again")
+            if store.fail(jid, reason, attempt=attempts):
+                out.append((jid, "failed"))
+    return out
+
+
+class Sweeper(threading.Thread):
+    """Runs :func:`sweep` every few seconds in the background."""
+
+    def __init__(self, url: str, config: Config, every: float = 3.0):
+        super().__init__(name="nightjar-sweeper", daemon=True)
+        self.url, self.config, self.every = url, config, every
+        self.halt = threading.Event()
+
+    def run(self):
+        r = connect(self.url)
+        store, disp = Store(r), Dispatcher(r, self.config)
+        while not self.halt.wait(self.every):
+            try:
+                for jid, what in sweep(store, disp, self.config):
+                    log.warning("sweeper: job %s %s", jid, what)
+            except redis.RedisError as e:
+                log.info("sweeper: redis not answering (%s)", e)
+            except Exception:  # never let the sweeper die
+                log.exception("sweeper")
+
+
+_names = iter(range(1, 1 << 30))
+
+
+def worker_name() -> str:
+    return f"{socket.gethostname()}.{os.getpid()}.{next(_names)}"
+
+
+def run_worker(url: str, config: Config, *, burst: bool = False,
+               sweeper: bool = True, log_level: str = "WARNING") -> int:
+    """The ``nightjar worker`` loop: an RQ worker on both queues
+    (interactive first), restarted when Redis goes away, plus a sweeper."""
+    os.environ["NIGHTJAR_REDIS_URL"] = url
+    os.environ["NJ_WORKER_PID"] = str(os.getpid())
+    os.environ.setdefault("NIGHTJAR_MEMORY_MB", str(config.memory_mb))
+    sw = None
+    if sweeper:
+        sw = Sweeper(url, config)
+        sw.start()
+    wait = 1.0
+    try:
+        while True:
+            r = connect(url)
+            try:
+                w = Worker([Queue(n, connection=r) for n in QUEUES], connection=r,
+                           name=worker_name())
+                w.work(burst=burst, logging_level=log_level, with_scheduler=False)
+                return 0
+            except (redis.ConnectionError, redis.TimeoutError) as e:
+                log.warning("worker: redis not answering (%s); retrying in %.0fs", e, wait)
+                time.sleep(wait)
+                wait = min(wait * 2, 10.0)
+    finally:
+        if sw:
+            sw.halt.set()
+
+
+__all__ = ["connect", "Dispatcher", "sweep", "Sweeper", "run_worker", "rq_id",
+           "QUEUE_INTERACTIVE", "QUEUE_BATCH", "QUEUES"]

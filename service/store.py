@@ -1,0 +1,492 @@
+"""Lasting Redis records: problems, jobs, batches, results, tokens.
+
+Every key is ours and under ``nj:`` (see "Storage keys" in DEVELOPERS.md);
+nothing here relies on RQ's result expiry.  State changes that must go
+together (a job's state, its batch's counters, the running set, the result)
+are written in one MULTI/EXEC transaction, guarded by WATCH where the change
+depends on what is stored (a verdict is written only by the attempt that
+holds the job).
+
+The client must be made with ``decode_responses=False`` (RQ needs raw bytes
+too); this module decodes.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import hmac
+import json
+import secrets
+import time
+import zlib
+
+import redis
+
+P = "nj:"
+STATES = ("queued", "running", "done", "failed", "cancelled")
+FINAL_STATES = frozenset({"done", "failed", "cancelled"})
+
+# fields of a job hash that hold JSON
+_JSON_FIELDS = ("certificate", "settings", "axioms_used")
+_FLOAT_FIELDS = ("seconds", "submitted", "started", "finished", "time_limit")
+_INT_FIELDS = ("attempts", "index")
+
+
+def _s(v):
+    return v.decode() if isinstance(v, bytes) else v
+
+
+def _decode_hash(h: dict) -> dict:
+    return {_s(k): _s(v) for k, v in h.items()}
+
+
+def pack(obj) -> bytes:
+    """JSON, zlib-compressed (proofs, models, problem bundles)."""
+    return zlib.compress(json.dumps(obj, separators=(",", ":")).encode(), 6)
+
+
+def unpack(b: bytes | None):
+    return None if b is None else json.loads(zlib.decompress(b))
+
+
+def new_id(kind: str) -> str:
+    """``j...`` for a job, ``b...`` for a batch."""
+    return kind + secrets.token_hex(6)
+
+
+def job_record(h: dict) -> dict:
+    """A job hash as the JSON the API gives out."""
+    d = _decode_hash(h)
+    for f in _JSON_FIELDS:
+        if f in d:
+            d[f] = json.loads(d[f])
+    for f in _FLOAT_FIELDS:
+        if f in d and d[f] != "":
+            d[f] = float(d[f])
+    for f in _INT_FIELDS:
+        if f in d and d[f] != "":
+            d[f] = int(d[f])
+    d.setdefault("conjecture", None)
+    if d.get("conjecture") == "":
+        d["conjecture"] = None
+    for f in ("verdict", "strategy", "worker", "started", "finished", "seconds",
+              "reason", "label", "reused_from"):
+        d.setdefault(f, None)
+    d.pop("problem", None)
+    d.pop("reuse_key", None)
+    return d
+
+
+class Conflict(Exception):
+    """The stored state does not allow the change (e.g. cancel a finished job)."""
+
+
+class Store:
+    def __init__(self, r: redis.Redis):
+        self.r = r
+
+    # -- keys --------------------------------------------------------------
+    @staticmethod
+    def k_job(jid): return f"{P}job:{jid}"
+    @staticmethod
+    def k_result(jid): return f"{P}result:{jid}"
+    @staticmethod
+    def k_alive(jid): return f"{P}alive:{jid}"
+    @staticmethod
+    def k_batch(bid): return f"{P}batch:{bid}"
+    @staticmethod
+    def k_batch_jobs(bid): return f"{P}batch:{bid}:jobs"
+    @staticmethod
+    def k_counts(bid): return f"{P}batch:{bid}:counts"
+    @staticmethod
+    def k_text(sha): return f"{P}text:{sha}"
+    @staticmethod
+    def k_problem(pid): return f"{P}problem:{pid}"
+    @staticmethod
+    def k_owner_batches(owner): return f"{P}owner:{owner}:batches"
+    @staticmethod
+    def k_reuse(owner, key): return f"{P}reuse:{owner}:{key}"
+    K_RUNNING = f"{P}running"
+    K_TOKENS = f"{P}tokens"          # hash: token name -> sha256 of the token
+    @staticmethod
+    def k_token(sha): return f"{P}token:{sha}"
+
+    # -- problems ----------------------------------------------------------
+    @staticmethod
+    def problem_id(bundle: dict) -> str:
+        """Content address of a bundle {"main", "files": {name: text}}."""
+        canon = json.dumps({"main": bundle["main"], "files": bundle["files"],
+                            "language": bundle.get("language")},
+                           sort_keys=True, separators=(",", ":"))
+        return hashlib.sha256(canon.encode()).hexdigest()[:32]
+
+    def stage_problem(self, pipe, bundle: dict) -> str:
+        """Queue the writes of a problem bundle on ``pipe``; texts are shared
+        between problems (an axiom file is kept once)."""
+        pid = self.problem_id(bundle)
+        names = {}
+        for name, text in bundle["files"].items():
+            sha = hashlib.sha256(text.encode()).hexdigest()[:32]
+            pipe.set(self.k_text(sha), zlib.compress(text.encode(), 6), nx=True)
+            names[name] = sha
+        pipe.set(self.k_problem(pid), pack({"main": bundle["main"], "files": names,
+                                            "language": bundle.get("language")}), nx=True)
+        return pid
+
+    def load_problem_bundle(self, pid: str) -> dict | None:
+        meta = unpack(self.r.get(self.k_problem(pid)))
+        if meta is None:
+            return None
+        names = list(meta["files"])
+        blobs = self.r.mget([self.k_text(meta["files"][n]) for n in names])
+        files = {n: zlib.decompress(b).decode() for n, b in zip(names, blobs)}
+        return {"main": meta["main"], "files": files, "language": meta.get("language")}
+
+    # -- submission --------------------------------------------------------
+    def create_batch(self, owner: str, jobs: list[dict], *, label: str | None,
+                     queue_name: str, settings: dict, enqueue=None,
+                     reused: dict | None = None) -> tuple[str, list[str]]:
+        """Write a batch and its jobs in one transaction.
+
+        ``jobs``: dicts with ``file``, ``conjecture``, ``bundle``, ``time_limit``,
+        ``reuse_key`` (or None).  ``reused``: index -> stored job record whose
+        verdict answers that job at once.  ``enqueue(pipe, job_id, time_limit)``
+        adds the RQ enqueue to the same transaction, so a job is never stored
+        without its queue entry, nor queued without its record."""
+        reused = reused or {}
+        bid = new_id("b")
+        now = time.time()
+        ids = []
+        pipe = self.r.pipeline(transaction=True)
+        pipe.multi()     # explicit: RQ's enqueue joins this transaction
+        counts: dict[str, int] = {}
+        pids = {}
+        for i, j in enumerate(jobs):
+            jid = new_id("j")
+            ids.append(jid)
+            key = id(j["bundle"])
+            if key not in pids:
+                pids[key] = self.stage_problem(pipe, j["bundle"])
+            rec = {"id": jid, "batch": bid, "owner": owner, "file": j["file"],
+                   "conjecture": j["conjecture"] or "", "index": i,
+                   "problem": pids[key], "submitted": now, "attempts": 0,
+                   "time_limit": j["time_limit"], "queue": queue_name,
+                   "settings": json.dumps(settings), "label": label or "",
+                   "reuse_key": j.get("reuse_key") or ""}
+            src = reused.get(i)
+            if src is not None:
+                rec.update({"state": "done", "verdict": src["verdict"],
+                            "seconds": src.get("seconds") or 0.0,
+                            "strategy": src.get("strategy") or "",
+                            "reason": src.get("reason") or "",
+                            "certificate": json.dumps(src.get("certificate") or {}),
+                            "axioms_used": json.dumps(src.get("axioms_used") or []),
+                            "started": now, "finished": now, "reused_from": src["id"]})
+                res = self.r.hgetall(self.k_result(src["id"]))
+                if res:
+                    pipe.hset(self.k_result(jid), mapping=res)
+                counts["done"] = counts.get("done", 0) + 1
+                counts["v:" + src["verdict"]] = counts.get("v:" + src["verdict"], 0) + 1
+            else:
+                rec["state"] = "queued"
+                counts["queued"] = counts.get("queued", 0) + 1
+            pipe.hset(self.k_job(jid), mapping={k: str(v) for k, v in rec.items()})
+            pipe.rpush(self.k_batch_jobs(bid), jid)
+            if src is None and enqueue is not None:
+                enqueue(pipe, jid, j["time_limit"], queue_name)
+        pipe.hset(self.k_batch(bid), mapping={
+            "id": bid, "owner": owner, "label": label or "", "submitted": str(now),
+            "total": str(len(jobs)), "queue": queue_name, "settings": json.dumps(settings)})
+        if counts:
+            pipe.hset(self.k_counts(bid), mapping={k: str(v) for k, v in counts.items()})
+        pipe.zadd(self.k_owner_batches(owner), {bid: now})
+        pipe.execute()
+        return bid, ids
+
+    def find_reusable(self, owner: str, reuse_key: str) -> dict | None:
+        jid = self.r.get(self.k_reuse(owner, reuse_key))
+        if jid is None:
+            return None
+        rec = self.get_job(_s(jid))
+        if rec is None or rec["state"] != "done":
+            return None
+        return rec
+
+    # -- reading -----------------------------------------------------------
+    def get_job_raw(self, jid: str) -> dict | None:
+        h = self.r.hgetall(self.k_job(jid))
+        return _decode_hash(h) if h else None
+
+    def get_job(self, jid: str) -> dict | None:
+        h = self.r.hgetall(self.k_job(jid))
+        return job_record(h) if h else None
+
+    def get_jobs(self, ids: list[str]) -> list[dict]:
+        pipe = self.r.pipeline(transaction=False)
+        for jid in ids:
+            pipe.hgetall(self.k_job(jid))
+        return [job_record(h) for h in pipe.execute() if h]
+
+    def get_result(self, jid: str) -> dict:
+        """proof, model (decompressed), figures, axioms_used of a finished job."""
+        h = _decode_result(self.r.hgetall(self.k_result(jid)))
+        return h
+
+    def get_batch(self, bid: str) -> dict | None:
+        h = self.r.hgetall(self.k_batch(bid))
+        if not h:
+            return None
+        d = _decode_hash(h)
+        d["total"] = int(d["total"])
+        d["submitted"] = float(d["submitted"])
+        d["settings"] = json.loads(d.get("settings") or "{}")
+        d["label"] = d.get("label") or None
+        counts = _decode_hash(self.r.hgetall(self.k_counts(bid)))
+        states = {s: 0 for s in STATES}
+        verdicts = {}
+        for k, v in counts.items():
+            n = int(v)
+            if k.startswith("v:"):
+                if n:
+                    verdicts[k[2:]] = n
+            else:
+                states[k] = n
+        d["states"] = states
+        d["verdicts"] = verdicts
+        settled = sum(states[s] for s in FINAL_STATES)
+        d["settled"] = settled
+        d["progress"] = round(settled / d["total"], 4) if d["total"] else 1.0
+        d["finished"] = settled == d["total"]
+        return d
+
+    def batch_job_ids(self, bid: str) -> list[str]:
+        return [_s(x) for x in self.r.lrange(self.k_batch_jobs(bid), 0, -1)]
+
+    def batch_jobs(self, bid: str, *, state=None, verdict=None, offset=0,
+                   limit=100) -> tuple[int, list[dict]]:
+        """(number matching, one page of job records) of a batch, in
+        submission order, optionally only those in ``state`` / with ``verdict``."""
+        ids = self.batch_job_ids(bid)
+        if state is None and verdict is None:
+            return len(ids), self.get_jobs(ids[offset:offset + limit])
+        pipe = self.r.pipeline(transaction=False)
+        for jid in ids:
+            pipe.hmget(self.k_job(jid), ["state", "verdict"])
+        keep = []
+        for jid, (st, vd) in zip(ids, pipe.execute()):
+            if state is not None and _s(st) != state:
+                continue
+            if verdict is not None and _s(vd) != verdict:
+                continue
+            keep.append(jid)
+        return len(keep), self.get_jobs(keep[offset:offset + limit])
+
+    def owner_batches(self, owner: str, offset=0, limit=50) -> list[str]:
+        return [_s(x) for x in self.r.zrevrange(self.k_owner_batches(owner),
+                                                offset, offset + limit - 1)]
+
+    # -- the life of a job -------------------------------------------------
+    def _transition(self, jid: str, check, change) -> dict | None:
+        """WATCH the job, let ``check(record)`` decide (None = leave it), then
+        apply ``change(pipe, record)`` in MULTI/EXEC.  Retries on a race."""
+        key = self.k_job(jid)
+        while True:
+            with self.r.pipeline(transaction=True) as pipe:
+                try:
+                    pipe.watch(key)
+                    h = pipe.hgetall(key)
+                    if not h:
+                        return None
+                    rec = _decode_hash(h)
+                    if not check(rec):
+                        pipe.unwatch()
+                        return None
+                    pipe.multi()
+                    change(pipe, rec)
+                    pipe.execute()
+                    return rec
+                except redis.WatchError:
+                    continue
+
+    def _move(self, pipe, rec, new_state, verdict=None):
+        ck = self.k_counts(rec["batch"])
+        pipe.hincrby(ck, rec["state"], -1)
+        pipe.hincrby(ck, new_state, 1)
+        if verdict:
+            pipe.hincrby(ck, "v:" + verdict, 1)
+
+    def start_attempt(self, jid: str, worker: str, alive_ttl: float) -> dict | None:
+        """queued -> running; returns the record (attempts counted) or None if
+        the job is not waiting (cancelled, settled, or taken)."""
+        now = time.time()
+
+        def change(pipe, rec):
+            self._move(pipe, rec, "running")
+            pipe.hset(self.k_job(jid), mapping={"state": "running", "worker": worker,
+                                                "started": str(now)})
+            pipe.hincrby(self.k_job(jid), "attempts", 1)
+            pipe.sadd(self.K_RUNNING, jid)
+            pipe.set(self.k_alive(jid), worker, px=int(alive_ttl * 1000))
+
+        rec = self._transition(jid, lambda r: r["state"] == "queued", change)
+        if rec is None:
+            return None
+        rec["attempts"] = int(rec.get("attempts") or 0) + 1
+        rec["state"] = "running"
+        return rec
+
+    def still_mine(self, jid: str, attempt: int) -> bool:
+        st, att = self.r.hmget(self.k_job(jid), ["state", "attempts"])
+        return _s(st) == "running" and int(att or 0) == attempt
+
+    def touch_alive(self, jid: str, worker: str, ttl: float) -> None:
+        self.r.set(self.k_alive(jid), worker, px=int(ttl * 1000))
+
+    def finish(self, jid: str, attempt: int, result: dict) -> bool:
+        """Write a verdict (the pipeline's result dict) if ``attempt`` still
+        holds the job.  The proof and model are kept compressed."""
+        now = time.time()
+        status = result["status"]
+
+        def check(rec):
+            return rec["state"] == "running" and int(rec.get("attempts") or 0) == attempt
+
+        def change(pipe, rec):
+            self._move(pipe, rec, "done", status)
+            pipe.hset(self.k_job(jid), mapping={
+                "state": "done", "verdict": status,
+                "seconds": str(result.get("seconds") or 0.0),
+                "strategy": result.get("strategy") or "",
+                "reason": result.get("reason") or "",
+                "certificate": json.dumps(result.get("certificate") or {}),
+                "axioms_used": json.dumps(result.get("axioms_used") or []),
+                "finished": str(now)})
+            res = {"figures": json.dumps(result.get("figures") or {})}
+            if result.get("proof") is not None:
+                res["proof"] = pack(result["proof"])
+            if result.get("model") is not None:
+                res["model"] = pack(result["model"])
+            pipe.hset(self.k_result(jid), mapping=res)
+            pipe.srem(self.K_RUNNING, jid)
+            pipe.delete(self.k_alive(jid))
+            if rec.get("reuse_key") and status not in ("Error", "InputError"):
+                pipe.set(self.k_reuse(rec["owner"], rec["reuse_key"]), jid)
+
+        return self._transition(jid, check, change) is not None
+
+    def fail(self, jid: str, reason: str, attempt: int | None = None) -> bool:
+        """running (or queued) -> failed with a reason."""
+        now = time.time()
+
+        def check(rec):
+            if rec["state"] not in ("running", "queued"):
+                return False
+            return attempt is None or int(rec.get("attempts") or 0) == attempt
+
+        def change(pipe, rec):
+            self._move(pipe, rec, "failed")
+            pipe.hset(self.k_job(jid), mapping={"state": "failed", "reason": reason,
+                                                "finished": str(now)})
+            pipe.srem(self.K_RUNNING, jid)
+            pipe.delete(self.k_alive(jid))
+
+        return self._transition(jid, check, change) is not None
+
+    def requeue(self, jid: str, reason: str, enqueue) -> bool:
+        """A lost running job goes back to the queue (the sweeper's retry)."""
+        def change(pipe, rec):
+            self._move(pipe, rec, "queued")
+            pipe.hset(self.k_job(jid), mapping={"state": "queued",
+                                                "reason": reason})
+            pipe.srem(self.K_RUNNING, jid)
+            pipe.delete(self.k_alive(jid))
+            enqueue(pipe, jid, float(rec["time_limit"]), rec.get("queue"),
+                    int(rec.get("attempts") or 0))
+
+        return self._transition(jid, lambda r: r["state"] == "running", change) is not None
+
+    def cancel(self, jid: str) -> str | None:
+        """queued/running -> cancelled.  Returns the state it had, or None if it
+        had already settled."""
+        now = time.time()
+
+        def change(pipe, rec):
+            self._move(pipe, rec, "cancelled")
+            pipe.hset(self.k_job(jid), mapping={"state": "cancelled",
+                                                "reason": "cancelled by its owner",
+                                                "finished": str(now)})
+            pipe.srem(self.K_RUNNING, jid)
+            pipe.delete(self.k_alive(jid))
+
+        rec = self._transition(jid, lambda r: r["state"] in ("queued", "running"), change)
+        return rec["state"] if rec else None
+
+    def running_jobs(self) -> list[str]:
+        return [_s(x) for x in self.r.smembers(self.K_RUNNING)]
+
+    def is_alive(self, jid: str) -> bool:
+        return bool(self.r.exists(self.k_alive(jid)))
+
+    # -- tokens ------------------------------------------------------------
+    @staticmethod
+    def token_hash(token: str) -> str:
+        return hashlib.sha256(token.encode()).hexdigest()
+
+    def add_token(self, name: str, owner: str | None = None) -> str:
+        """A new token for ``name`` (its owner, unless ``owner`` is given);
+        an earlier token of that name stops working."""
+        token = "nj_" + secrets.token_urlsafe(24)
+        sha = self.token_hash(token)
+        old = self.r.hget(self.K_TOKENS, name)
+        pipe = self.r.pipeline(transaction=True)
+        if old:
+            pipe.delete(self.k_token(_s(old)))
+        pipe.hset(self.k_token(sha), mapping={"name": name, "owner": owner or name,
+                                              "created": str(time.time())})
+        pipe.hset(self.K_TOKENS, name, sha)
+        pipe.execute()
+        return token
+
+    def check_token(self, token: str) -> str | None:
+        """The owner of a token, or None.  The stored hash is found by the
+        token's own hash and compared in constant time."""
+        if not token:
+            return None
+        sha = self.token_hash(token)
+        h = self.r.hgetall(self.k_token(sha))
+        if not h:
+            return None
+        d = _decode_hash(h)
+        listed = self.r.hget(self.K_TOKENS, d["name"])
+        if listed is None or not hmac.compare_digest(_s(listed), sha):
+            return None
+        return d["owner"]
+
+    def list_tokens(self) -> list[dict]:
+        out = []
+        for name, sha in sorted(_decode_hash(self.r.hgetall(self.K_TOKENS)).items()):
+            d = _decode_hash(self.r.hgetall(self.k_token(sha)))
+            out.append({"name": name, "owner": d.get("owner", name),
+                        "created": float(d.get("created", 0))})
+        return out
+
+    def revoke_token(self, name: str) -> bool:
+        sha = self.r.hget(self.K_TOKENS, name)
+        if sha is None:
+            return False
+        pipe = self.r.pipeline(transaction=True)
+        pipe.delete(self.k_token(_s(sha)))
+        pipe.hdel(self.K_TOKENS, name)
+        pipe.execute()
+        return True
+
+
+def _decode_result(h: dict) -> dict:
+    out = {"proof": None, "model": None, "figures": {}}
+    for k, v in h.items():
+        k = _s(k)
+        if k in ("proof", "model"):
+            out[k] = unpack(v)
+        elif k == "figures":
+            out[k] = json.loads(_s(v))
+    return out

@@ -1,0 +1,267 @@
+"""The JSON API against fakeredis, with the Flask test client.
+
+Jobs are run in-process by calling ``worker.jobs.attempt`` (what a worker
+does); the engine's ``decide`` is replaced by a stand-in where a test is about
+the service and not about proving.
+"""
+
+import json
+
+import fakeredis
+import pytest
+from rq import Queue
+
+from service.app import create_app
+from service.config import QUEUE_BATCH, QUEUE_INTERACTIVE, Config
+from service.store import Store
+from worker import jobs
+
+GOOD = """\
+axiom a1: forall x. p(x) implies q(x)
+axiom a2: p(c)
+conjecture g: q(c)
+conjecture h: q(d)
+"""
+
+BAD = """\
+axiom a1: forall x. p(x) implies q(x)
+axiom a2: p(c) and and
+conjecture g: q(c)
+"""
+
+
+def fake_decide(problem, conjecture, settings=None):
+    status = "Theorem" if conjecture == "g" else "CounterSatisfiable"
+    proof = {"steps": [{"id": 0, "clause": [], "rule": "input"}], "conjecture": conjecture,
+             "axioms_used": ["a1"]} if status == "Theorem" else None
+    model = None if proof else {"size": 1, "functions": {}, "predicates": {}}
+    return {"conjecture": conjecture, "status": status, "seconds": 0.01,
+            "strategy": "fake", "reason": "", "figures": {"given": 3,
+                                                          "time_limit": settings.limits.time},
+            "axioms_used": ["a1"] if proof else [], "proof": proof, "model": model,
+            "certificate": {"kind": "proof-replayed" if proof else "model-evaluated",
+                            "checked": 1, "detail": ""}}
+
+
+@pytest.fixture
+def env(monkeypatch):
+    monkeypatch.setattr("worker.pipeline.decide", fake_decide)
+    r = fakeredis.FakeRedis()
+    cfg = Config(max_time_limit=60, max_jobs_per_batch=5, max_upload_bytes=20_000)
+    app = create_app(cfg, r)
+    store = Store(r)
+    tok = store.add_token("alice")
+    other = store.add_token("bob")
+    c = app.test_client()
+
+    class E:
+        pass
+    e = E()
+    e.r, e.app, e.store, e.client, e.cfg = r, app, store, c, cfg
+    e.h = {"Authorization": f"Bearer {tok}"}
+    e.h2 = {"Authorization": f"Bearer {other}"}
+
+    def post(body, headers=None):
+        return c.post("/api/submissions", json=body, headers=headers or e.h)
+    e.post = post
+
+    def run_all():
+        """Work off both queues in-process, interactive first."""
+        done = []
+        for qn in (QUEUE_INTERACTIVE, QUEUE_BATCH):
+            q = Queue(qn, connection=r)
+            for rq_id in q.job_ids:
+                jid = rq_id.rsplit("-", 1)[0]
+                done.append(jobs.attempt(jid, connection=r))
+                q.remove(rq_id)
+        return done
+    e.run_all = run_all
+    return e
+
+
+def one(text=GOOD, name="t.nj"):
+    return {"main": name, "files": {name: text}}
+
+
+def test_health_needs_no_token(env):
+    r = env.client.get("/api/health")
+    assert r.status_code == 200
+    assert r.get_json()["ok"] is True
+
+
+def test_everything_else_needs_a_token(env):
+    assert env.client.get("/api/batches").status_code == 401
+    r = env.client.post("/api/submissions", json={"problem": one()},
+                        headers={"Authorization": "Bearer nope"})
+    assert r.status_code == 401
+    assert r.get_json()["error"]["code"] == "unauthorized"
+
+
+def test_submit_one_file_makes_a_job_per_conjecture(env):
+    r = env.post({"problem": one(), "label": "first", "time_limit": 3})
+    assert r.status_code == 202, r.get_json()
+    body = r.get_json()
+    assert [j["conjecture"] for j in body["jobs"]] == ["g", "h"]
+    assert all(j["state"] == "queued" for j in body["jobs"])
+    # a single problem goes to the interactive queue
+    assert Queue(QUEUE_INTERACTIVE, connection=env.r).count == 2
+    assert Queue(QUEUE_BATCH, connection=env.r).count == 0
+    b = env.client.get(f"/api/batches/{body['batch']}", headers=env.h).get_json()
+    assert b["states"]["queued"] == 2 and b["total"] == 2 and b["label"] == "first"
+
+    assert sorted(env.run_all()) == ["CounterSatisfiable", "Theorem"]
+    g, h = body["jobs"]
+    jg = env.client.get(f"/api/jobs/{g['id']}", headers=env.h).get_json()
+    assert jg["state"] == "done" and jg["verdict"] == "Theorem"
+    assert jg["attempts"] == 1 and jg["strategy"] == "fake"
+    assert jg["started"] >= jg["submitted"] and jg["finished"] >= jg["started"]
+    assert jg["certificate"]["kind"] == "proof-replayed"
+    pr = env.client.get(f"/api/jobs/{g['id']}/proof", headers=env.h).get_json()
+    assert pr["proof"]["steps"][0]["rule"] == "input"
+    fig = env.client.get(f"/api/jobs/{g['id']}/figures", headers=env.h).get_json()
+    assert fig["figures"] == {"given": 3, "time_limit": 3.0}
+    mo = env.client.get(f"/api/jobs/{h['id']}/model", headers=env.h).get_json()
+    assert mo["model"]["size"] == 1 and mo["verdict"] == "CounterSatisfiable"
+    src = env.client.get(f"/api/jobs/{g['id']}/problem", headers=env.h).get_json()
+    assert src["text"] == GOOD and src["main"] == "t.nj"
+    b = env.client.get(f"/api/batches/{body['batch']}", headers=env.h).get_json()
+    assert b["states"]["done"] == 2 and b["states"]["queued"] == 0
+    assert b["verdicts"] == {"Theorem": 1, "CounterSatisfiable": 1}
+    assert b["finished"] is True and b["progress"] == 1.0
+
+
+def test_bad_input_is_refused_with_its_place_and_nothing_is_kept(env):
+    before = set(env.r.keys("*"))
+    r = env.post({"problems": [one(), one(BAD, "bad.nj")]})
+    assert r.status_code == 400
+    err = r.get_json()["error"]
+    assert err["code"] == "input_error"
+    assert err["file"] == "bad.nj" and err["line"] == 2
+    assert err["text"].startswith(f"bad.nj:2:{err['col']}: error:")
+    assert set(env.r.keys("*")) == before
+
+
+def test_axioms_with_many_conjectures(env):
+    ax = {"main": "ax.nj", "files": {"ax.nj": "axiom a1: forall x. p(x) implies q(x)\n"
+                                              "axiom a2: p(c)\n"}}
+    r = env.post({"axioms": ax, "conjectures": [
+        {"name": "c1.nj", "text": "conjecture g: q(c)\n"},
+        {"name": "c2.nj", "text": "conjecture h: q(d)"}]})
+    assert r.status_code == 202, r.get_json()
+    jobs_ = r.get_json()["jobs"]
+    assert [(j["file"], j["conjecture"]) for j in jobs_] == [("c1.nj", "g"), ("c2.nj", "h")]
+    assert Queue(QUEUE_BATCH, connection=env.r).count == 2
+    # an error in a conjecture file keeps that file's own line numbers
+    r = env.post({"axioms": ax, "conjectures": [
+        {"name": "c3.nj", "text": "\n\nconjecture g: q(c) or\n"}]})
+    assert r.status_code == 400
+    assert r.get_json()["error"]["file"] == "c3.nj"
+    assert r.get_json()["error"]["line"] in (3, 4)
+
+
+def test_limits(env):
+    r = env.post({"problem": one(), "time_limit": 61})
+    assert r.status_code == 400 and r.get_json()["error"]["code"] == "limit"
+    r = env.post({"problems": [one()] * 6})
+    assert r.status_code == 400 and r.get_json()["error"]["code"] == "too_many_jobs"
+    # three files of two obligations each: six jobs, over five
+    r = env.post({"problems": [one()] * 3})
+    assert r.status_code == 400 and r.get_json()["error"]["code"] == "too_many_jobs"
+    big = "axiom a: p\n" * 3000
+    r = env.client.post("/api/submissions", data=json.dumps({"problem": one(big)}),
+                        headers={**env.h, "Content-Type": "application/json"})
+    assert r.status_code == 413 and r.get_json()["error"]["code"] == "too_large"
+    for body in ({}, {"problem": "x"}, {"problem": {"main": "a", "files": {"b": "c"}}},
+                 {"problem": one(), "time_limit": "soon"}, [1, 2]):
+        r = env.post(body)
+        assert r.status_code == 400, body
+        assert "message" in r.get_json()["error"]
+    assert env.r.keys("nj:job:*") == []
+
+
+def test_other_owner_gets_404(env):
+    body = env.post({"problem": one()}).get_json()
+    jid, bid = body["jobs"][0]["id"], body["batch"]
+    for path in (f"/api/jobs/{jid}", f"/api/jobs/{jid}/proof", f"/api/jobs/{jid}/problem",
+                 f"/api/batches/{bid}", f"/api/batches/{bid}/jobs"):
+        assert env.client.get(path, headers=env.h2).status_code == 404, path
+        assert env.client.get(path, headers=env.h).status_code == 200, path
+    assert env.client.post(f"/api/jobs/{jid}/cancel", headers=env.h2).status_code == 404
+    assert env.client.get("/api/batches", headers=env.h2).get_json()["batches"] == []
+
+
+def test_cancel_queued_job_never_starts(env):
+    body = env.post({"problem": one()}).get_json()
+    g, h = body["jobs"]
+    r = env.client.post(f"/api/jobs/{g['id']}/cancel", headers=env.h).get_json()
+    assert r["state"] == "cancelled" and r["was"] == "queued"
+    assert sorted(env.run_all()) == ["CounterSatisfiable", "skipped"]
+    rec = env.client.get(f"/api/jobs/{g['id']}", headers=env.h).get_json()
+    assert rec["state"] == "cancelled" and rec["verdict"] is None and rec["attempts"] == 0
+    b = env.client.get(f"/api/batches/{body['batch']}", headers=env.h).get_json()
+    assert b["states"]["cancelled"] == 1 and b["states"]["done"] == 1
+    # cancelling a settled job changes nothing
+    r = env.client.post(f"/api/jobs/{h['id']}/cancel", headers=env.h).get_json()
+    assert r["cancelled"] is False and r["state"] == "done"
+
+
+def test_cancel_batch(env):
+    body = env.post({"problems": [one(), one()]}).get_json()
+    r = env.client.post(f"/api/batches/{body['batch']}/cancel", headers=env.h).get_json()
+    assert r["cancelled"] == 4
+    assert env.run_all() == ["skipped"] * 4
+    b = env.client.get(f"/api/batches/{body['batch']}", headers=env.h).get_json()
+    assert b["states"]["cancelled"] == 4 and b["finished"]
+
+
+def test_batch_jobs_filter_and_pages(env):
+    body = env.post({"problems": [one(), one()]}).get_json()
+    env.run_all()
+    bid = body["batch"]
+    r = env.client.get(f"/api/batches/{bid}/jobs?verdict=Theorem", headers=env.h).get_json()
+    assert r["total"] == 2 and all(j["verdict"] == "Theorem" for j in r["jobs"])
+    r = env.client.get(f"/api/batches/{bid}/jobs?limit=3&offset=2", headers=env.h).get_json()
+    assert r["total"] == 4 and [j["id"] for j in r["jobs"]] == [j["id"] for j in body["jobs"][2:]]
+    r = env.client.get(f"/api/batches/{bid}/jobs?state=queued", headers=env.h).get_json()
+    assert r["total"] == 0
+    assert env.client.get(f"/api/batches/{bid}/jobs?state=bogus",
+                          headers=env.h).status_code == 400
+    assert env.client.get(f"/api/batches/{bid}/jobs?limit=-1",
+                          headers=env.h).status_code == 400
+
+
+def test_reuse_answers_from_stored_verdict(env, monkeypatch):
+    first = env.post({"problem": one(), "time_limit": 5}).get_json()
+    env.run_all()
+    calls = []
+    monkeypatch.setattr("worker.pipeline.decide",
+                        lambda *a, **k: calls.append(a) or fake_decide(*a, **k))
+    again = env.post({"problem": one(), "time_limit": 5, "reuse": True}).get_json()
+    assert [j["state"] for j in again["jobs"]] == ["done", "done"]
+    assert all(j["reused"] for j in again["jobs"])
+    assert env.run_all() == [] and calls == []
+    rec = env.client.get(f"/api/jobs/{again['jobs'][0]['id']}", headers=env.h).get_json()
+    assert rec["verdict"] == "Theorem" and rec["reused_from"] == first["jobs"][0]["id"]
+    pr = env.client.get(f"/api/jobs/{again['jobs'][0]['id']}/proof", headers=env.h).get_json()
+    assert pr["proof"]["axioms_used"] == ["a1"]
+    # other settings: not reused
+    other = env.post({"problem": one(), "time_limit": 6, "reuse": True}).get_json()
+    assert [j["state"] for j in other["jobs"]] == ["queued", "queued"]
+    # another owner never sees the first owner's verdicts
+    theirs = env.post({"problem": one(), "time_limit": 5, "reuse": True},
+                      headers=env.h2).get_json()
+    assert [j["state"] for j in theirs["jobs"]] == ["queued", "queued"]
+
+
+def test_owner_batches_listing(env):
+    a = env.post({"problem": one()}).get_json()["batch"]
+    b = env.post({"problem": one()}).get_json()["batch"]
+    r = env.client.get("/api/batches", headers=env.h).get_json()
+    assert [x["id"] for x in r["batches"]] == [b, a]
+
+
+def test_unknown_paths_answer_json(env):
+    r = env.client.get("/api/nothing", headers=env.h)
+    assert r.status_code == 404 and r.get_json()["error"]["code"] == "not_found"
+    r = env.client.get("/api/jobs/jnope", headers=env.h)
+    assert r.status_code == 404

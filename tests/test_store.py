@@ -1,0 +1,137 @@
+"""The lasting records (service.store) and the sweeper, against fakeredis."""
+
+import fakeredis
+import pytest
+
+from service.config import Config
+from service.queue import Dispatcher, rq_id, sweep
+from service.store import Store, pack, unpack
+
+CFG = Config(max_attempts=2)
+
+
+@pytest.fixture
+def st():
+    r = fakeredis.FakeRedis()
+    return Store(r), Dispatcher(r, CFG)
+
+
+def bundle(text="conjecture g: p\n"):
+    return {"main": "a.nj", "files": {"a.nj": text, "inc/b.nj": "axiom x: q\n"}}
+
+
+def make(st, n=2, owner="alice"):
+    store, disp = st
+    b = bundle()
+    jobs = [{"file": "a.nj", "conjecture": f"c{i}", "bundle": b, "time_limit": 2.0}
+            for i in range(n)]
+    return store.create_batch(owner, jobs, label="L", queue_name="nj-batch",
+                              settings={"strategy": "s1"}, enqueue=disp.enqueue)
+
+
+def result(status="Theorem"):
+    return {"status": status, "seconds": 0.5, "strategy": "s1", "reason": "",
+            "figures": {"given": 7}, "axioms_used": ["x"],
+            "proof": {"steps": [{"id": 1, "clause": [], "rule": "input"}] * 50},
+            "model": None, "certificate": {"kind": "proof-replayed", "checked": 50, "detail": ""}}
+
+
+def test_pack_roundtrip_and_compresses():
+    obj = {"steps": [{"id": i, "clause": [[True, ["p", 0]]], "rule": "input"} for i in range(200)]}
+    b = pack(obj)
+    assert unpack(b) == obj
+    assert len(b) < len(repr(obj)) / 5
+
+
+def test_problem_texts_are_shared_and_restored(st):
+    store, _ = st
+    bid, ids = make(st, 3)
+    rec = store.get_job_raw(ids[0])
+    assert store.load_problem_bundle(rec["problem"]) == {**bundle(), "language": None}
+    assert len(store.r.keys("nj:text:*")) == 2      # two distinct file texts, kept once
+    assert len(store.r.keys("nj:problem:*")) == 1
+    assert store.batch_job_ids(bid) == ids
+
+
+def test_life_of_a_job(st):
+    store, _ = st
+    bid, (a, b) = make(st)
+    rec = store.start_attempt(a, "w1", 10)
+    assert rec["attempts"] == 1
+    assert store.start_attempt(a, "w2", 10) is None       # taken already
+    assert store.get_batch(bid)["states"]["running"] == 1
+    assert store.running_jobs() == [a] and store.is_alive(a)
+    assert store.finish(a, 1, result())
+    assert not store.finish(a, 1, result("CounterSatisfiable"))   # written once
+    j = store.get_job(a)
+    assert (j["state"], j["verdict"], j["worker"], j["attempts"]) == ("done", "Theorem", "w1", 1)
+    assert j["axioms_used"] == ["x"] and j["certificate"]["checked"] == 50
+    res = store.get_result(a)
+    assert len(res["proof"]["steps"]) == 50 and res["figures"] == {"given": 7}
+    assert store.running_jobs() == [] and not store.is_alive(a)
+    bt = store.get_batch(bid)
+    assert bt["states"] == {"queued": 1, "running": 0, "done": 1, "failed": 0, "cancelled": 0}
+    assert bt["verdicts"] == {"Theorem": 1} and bt["progress"] == 0.5 and not bt["finished"]
+
+
+def test_a_stale_attempt_cannot_overwrite(st):
+    store, disp = st
+    _, (a, _) = make(st)
+    store.start_attempt(a, "w1", 10)
+    store.r.delete(store.k_alive(a))          # its worker died
+    assert sweep(store, disp, CFG) == [(a, "retried")]
+    assert store.get_job(a)["state"] == "queued"
+    assert rq_id(a, 2).encode() in store.r.lrange("rq:queue:nj-batch", 0, -1)
+    store.start_attempt(a, "w2", 10)
+    assert not store.finish(a, 1, result())   # the first attempt comes back late
+    assert store.finish(a, 2, result())
+    assert store.get_job(a)["worker"] == "w2"
+
+
+def test_sweeper_retries_once_then_fails(st):
+    store, disp = st
+    bid, (a, _) = make(st)
+    for n in (1, 2):
+        store.start_attempt(a, f"w{n}", 10)
+        store.r.delete(store.k_alive(a))
+        out = sweep(store, disp, CFG)
+    assert out == [(a, "failed")]
+    j = store.get_job(a)
+    assert j["state"] == "failed" and j["attempts"] == 2
+    assert "stopped answering 2 times" in j["reason"]
+    assert store.get_batch(bid)["states"]["failed"] == 1
+    assert sweep(store, disp, CFG) == []
+
+
+def test_sweeper_leaves_live_jobs(st):
+    store, disp = st
+    _, (a, _) = make(st)
+    store.start_attempt(a, "w1", 10)
+    assert sweep(store, disp, CFG) == []
+    assert store.get_job(a)["state"] == "running"
+
+
+def test_cancel(st):
+    store, _ = st
+    bid, (a, b) = make(st)
+    assert store.cancel(a) == "queued"
+    assert store.start_attempt(a, "w", 10) is None
+    store.start_attempt(b, "w", 10)
+    assert store.cancel(b) == "running"
+    assert not store.finish(b, 1, result())     # a stopped job keeps its cancel
+    assert store.cancel(b) is None
+    bt = store.get_batch(bid)
+    assert bt["states"]["cancelled"] == 2 and bt["finished"]
+    assert store.running_jobs() == []
+
+
+def test_filter_counts_match(st):
+    store, _ = st
+    bid, ids = make(st, 5)
+    for jid, v in zip(ids[:3], ("Theorem", "Timeout", "Theorem")):
+        store.start_attempt(jid, "w", 10)
+        store.finish(jid, 1, result(v))
+    assert store.batch_jobs(bid, verdict="Theorem")[0] == 2
+    assert store.batch_jobs(bid, state="queued")[0] == 2
+    n, page = store.batch_jobs(bid, offset=1, limit=2)
+    assert n == 5 and [j["id"] for j in page] == ids[1:3]

@@ -1,0 +1,161 @@
+"""The RQ entry point: the one adapter between the queue and the engine.
+
+``attempt(job_id)`` takes the job (queued -> running, counting the attempt),
+loads its problem from Redis, decides the obligation under the job's limits
+with :func:`worker.pipeline.decide`, and writes the verdict.  A cancelled or
+already settled job is left alone.  While it works, a background thread
+tells the store every few seconds that the attempt is alive; the sweeper
+(:mod:`service.queue`) retries an attempt that stops saying so.
+
+Inside a work horse (the process RQ forks per job) the address space is
+capped (``NIGHTJAR_MEMORY_MB``): running out gives a MemoryOut verdict and
+the worker lives on.
+"""
+
+from __future__ import annotations
+
+import os
+import threading
+import time
+
+import redis
+
+from . import verdict as V
+
+_RETRY_SECONDS = 60.0      # how long a write waits for Redis to come back
+
+
+def _connection():
+    from rq import get_current_job
+    job = get_current_job()
+    if job is not None:
+        return job.connection
+    url = os.environ.get("NIGHTJAR_REDIS_URL")
+    if not url:
+        raise RuntimeError("no Redis connection: not inside an RQ job and "
+                           "NIGHTJAR_REDIS_URL is not set")
+    return redis.Redis.from_url(url)
+
+
+def _in_work_horse() -> bool:
+    wp = os.environ.get("NJ_WORKER_PID")
+    return bool(wp) and wp != str(os.getpid())
+
+
+def _cap_memory(mb: int | None) -> None:
+    if not mb or not _in_work_horse():
+        return
+    import resource
+    cap = int(mb) * 1024 * 1024
+    soft, hard = resource.getrlimit(resource.RLIMIT_AS)
+    if hard != resource.RLIM_INFINITY:
+        cap = min(cap, hard)
+    resource.setrlimit(resource.RLIMIT_AS, (cap, hard))
+
+
+def _retrying(fn, *args):
+    """Run a store call, waiting out a Redis restart."""
+    deadline = time.monotonic() + _RETRY_SECONDS
+    delay = 0.2
+    while True:
+        try:
+            return fn(*args)
+        except (redis.ConnectionError, redis.TimeoutError):
+            if time.monotonic() > deadline:
+                raise
+            time.sleep(delay)
+            delay = min(delay * 2, 3.0)
+
+
+class _Heartbeat(threading.Thread):
+    def __init__(self, store, job_id, worker, every, ttl):
+        super().__init__(name="nightjar-heartbeat", daemon=True)
+        self.args = (store, job_id, worker, every, ttl)
+        self.halt = threading.Event()
+
+    def run(self):
+        store, job_id, worker, every, ttl = self.args
+        while not self.halt.wait(every):
+            try:
+                store.touch_alive(job_id, worker, ttl)
+            except Exception:
+                pass
+
+
+def _result(status, reason, seconds=0.0, conjecture=None):
+    return {"conjecture": conjecture, "status": status, "seconds": seconds,
+            "strategy": None, "reason": reason, "figures": {}, "axioms_used": [],
+            "proof": None, "model": None, "certificate": V.certificate("none")}
+
+
+def settings_for(rec: dict, memory_mb: int | None) -> V.Settings:
+    """The engine settings of a job record (its time limit and options)."""
+    opts = dict(rec.get("settings") or {})
+    strategy = opts.pop("strategy", None)
+    known = {k: v for k, v in opts.items()
+             if k in ("equality", "model_search", "max_model_size")}
+    return V.Settings(limits=V.Limits(time=float(rec["time_limit"]), memory_mb=memory_mb),
+                      strategy=strategy, **known)
+
+
+def decide_record(store, rec: dict, memory_mb: int | None) -> dict:
+    """Load the job's problem and decide it (no writes)."""
+    import json
+
+    from .pipeline import decide
+    from .syntax import bundle_reader, load_problem
+    from .syntax.errors import InputError
+
+    bundle = store.load_problem_bundle(rec["problem"])
+    if bundle is None:
+        return _result(V.ERROR, "the stored problem text is missing")
+    raw = rec.get("settings")
+    rec = dict(rec, settings=json.loads(raw) if isinstance(raw, str) else (raw or {}))
+    conj = rec.get("conjecture") or None
+    t0 = time.monotonic()
+    try:
+        problem = load_problem(bundle["main"], bundle_reader(bundle["files"]),
+                               language=bundle.get("language"))
+    except InputError as e:   # refused at submission, so only if the reader changed
+        return _result(V.INPUT_ERROR, e.render(), conjecture=conj)
+    except MemoryError:
+        return _result(V.MEMORY_OUT, "memory limit reached while reading", conjecture=conj)
+    try:
+        return decide(problem, conj, settings_for(rec, memory_mb))
+    except MemoryError:
+        return _result(V.MEMORY_OUT, "memory limit reached",
+                       round(time.monotonic() - t0, 4), conj)
+
+
+def attempt(job_id: str, *, connection=None) -> str:
+    """Run one attempt of a job; returns the verdict written (or what
+    happened instead: "skipped", "superseded")."""
+    from service.store import Store
+    from service.config import Config
+
+    cfg = Config.from_env()
+    store = Store(connection or _connection())
+    worker = os.environ.get("RQ_WORKER_ID") or f"pid{os.getpid()}"
+    rec = _retrying(store.start_attempt, job_id, worker, cfg.alive_ttl)
+    if rec is None:
+        return "skipped"
+    n = rec["attempts"]
+    beat = _Heartbeat(store, job_id, worker, cfg.heartbeat_seconds, cfg.alive_ttl)
+    beat.start()
+    try:
+        try:
+            _cap_memory(cfg.memory_mb)
+            result = decide_record(store, rec, cfg.memory_mb)
+        except MemoryError:
+            result = _result(V.MEMORY_OUT, "memory limit reached", conjecture=rec.get("conjecture"))
+        except Exception as e:
+            if type(e).__name__ == "JobTimeoutException":   # RQ's hard stop
+                result = _result(V.TIMEOUT, "hard stop: the time limit plus the grace "
+                                 "period ran out", conjecture=rec.get("conjecture"))
+            else:
+                result = _result(V.ERROR, f"internal error: {type(e).__name__}: {e}",
+                                 conjecture=rec.get("conjecture"))
+        written = _retrying(store.finish, job_id, n, result)
+    finally:
+        beat.halt.set()
+    return result["status"] if written else "superseded"
