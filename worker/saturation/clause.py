@@ -1,0 +1,87 @@
+"""Clauses of the saturation engine and their derivations.
+
+A :class:`Clause` holds its literals (variables renamed ``0..n-1`` in order
+of first occurrence, duplicate literals merged), the rule that derived it,
+its parent clauses and the rule's fields in the proof step format of
+DEVELOPERS.md ("Proofs").  Every clause the engine builds, including the
+intermediate clauses of a chain of rewrites, is a :class:`Clause` with its
+own id, so any clause can be traced back to the input.
+"""
+
+from __future__ import annotations
+
+from worker.syntax.terms import EQ
+
+
+class Clause:
+    __slots__ = ("id", "lits", "nvars", "weight", "conj", "rule", "parents",
+                 "info", "alive", "active", "sel", "elig", "maxl", "key",
+                 "source", "role")
+
+    def __init__(self, cid: int, lits: tuple, nvars: int, rule: str,
+                 parents: tuple = (), info: dict | None = None,
+                 conj: bool = False):
+        self.id = cid
+        self.lits = lits
+        self.nvars = nvars
+        self.rule = rule
+        self.parents = parents
+        self.info = info
+        self.conj = conj
+        self.alive = True
+        self.active = False
+        self.weight = sum(_size(a) for _s, a in lits) + len(lits) - 1
+        self.sel = ()          # selected literal indexes (set at activation)
+        self.elig = ()         # literal indexes eligible for inferences
+        self.maxl = ()         # maximal literal indexes
+        self.key = None
+        self.source = None
+        self.role = None
+
+    def __repr__(self) -> str:
+        return f"Clause({self.id}, {self.lits!r}, {self.rule})"
+
+
+def _size(t) -> int:
+    if type(t) is tuple:
+        n = 1
+        for a in t[1:]:
+            n += _size(a)
+        return n
+    return 1
+
+
+def normalize(lits, eq_builtin: bool = True) -> tuple[tuple, int]:
+    """Merge duplicate literals (an equation and its mirror count as the same
+    when equality is built in) and rename variables ``0..n-1`` in order of
+    first occurrence.  Returns ``(lits, number_of_variables)``."""
+    seen = set()
+    out = []
+    for lit in lits:
+        if lit in seen:
+            continue
+        sign, atom = lit
+        if eq_builtin and type(atom) is tuple and atom[0] == EQ:
+            if (sign, (EQ, atom[2], atom[1])) in seen:
+                continue
+        seen.add(lit)
+        out.append(lit)
+    mapping: dict = {}
+
+    def walk(t):
+        tt = type(t)
+        if tt is int:
+            v = mapping.get(t)
+            if v is None:
+                v = mapping[t] = len(mapping)
+            return v
+        if tt is str:
+            return t
+        return (t[0], *[walk(a) for a in t[1:]])
+
+    res = tuple((s, walk(a)) for s, a in out)
+    return res, len(mapping)
+
+
+def is_equation(atom) -> bool:
+    return type(atom) is tuple and atom[0] == EQ

@@ -1,0 +1,201 @@
+"""Term indexes: retrieval of candidate terms that may unify with a query,
+be a generalization of it (the indexed term matches onto the query), or be an
+instance of it.
+
+:class:`FingerprintIndex` keys every term by its *fingerprint*: the symbol
+found at a few fixed positions (the root, its arguments 1..3 and their first
+two arguments) or one of three markers: ``VAR`` (a variable stands there),
+``BELOW`` (the position does not exist because a variable stands above it)
+and ``NONE`` (the position does not exist and no variable is above it).  The
+fingerprints form a trie; a retrieval walks only the branches whose feature is
+compatible with the query's feature in the chosen mode.  The result is a
+superset of the real answers: the caller runs the exact unification or
+matching on each candidate.
+
+:class:`LinearIndex` has the same interface and returns everything (the naive
+mode used for the benchmark comparison).
+
+Entries are ``(term, value)`` where ``value`` is a tuple whose first element
+is a clause.  Deletion is lazy: a clause that leaves the active set clears its
+``alive`` flag, retrieval skips its entries and they are purged when they pile
+up.
+"""
+
+from __future__ import annotations
+
+VAR, BELOW, NONE = 1, 2, 3
+
+POSITIONS = ((), (1,), (2,), (3,), (1, 1), (1, 2), (2, 1), (2, 2))
+
+
+def fingerprint(t, positions=POSITIONS) -> tuple:
+    out = []
+    for pos in positions:
+        cur = t
+        feat = None
+        for i in pos:
+            tc = type(cur)
+            if tc is int:
+                feat = BELOW
+                break
+            if tc is str or i >= len(cur):
+                feat = NONE
+                break
+            cur = cur[i]
+        if feat is None:
+            tc = type(cur)
+            feat = VAR if tc is int else (cur if tc is str else cur[0])
+        out.append(feat)
+    return tuple(out)
+
+
+def _unify_ok(q, e) -> bool:
+    if type(q) is str:
+        return e == q or e == VAR or e == BELOW
+    if q == VAR:
+        return e != NONE
+    if q == BELOW:
+        return True
+    return e == NONE or e == BELOW       # q is NONE
+
+
+def _gen_ok(q, e) -> bool:
+    """Indexed feature ``e`` can belong to a generalization of the query."""
+    if type(q) is str:
+        return e == q or e == VAR or e == BELOW
+    if q == VAR:
+        return e == VAR or e == BELOW
+    if q == BELOW:
+        return e == BELOW
+    return e == NONE or e == BELOW
+
+
+def _inst_ok(q, e) -> bool:
+    """Indexed feature ``e`` can belong to an instance of the query."""
+    if type(q) is str:
+        return e == q
+    if q == VAR:
+        return type(e) is str or e == VAR
+    if q == BELOW:
+        return True
+    return e == NONE
+
+
+_OK = {"unify": _unify_ok, "gen": _gen_ok, "inst": _inst_ok}
+
+
+class FingerprintIndex:
+    __slots__ = ("root", "size", "dead", "positions")
+
+    def __init__(self, positions=POSITIONS):
+        self.root: dict = {}
+        self.size = 0
+        self.dead = 0
+        self.positions = positions
+
+    def insert(self, term, value) -> None:
+        node = self.root
+        fp = fingerprint(term, self.positions)
+        for f in fp[:-1]:
+            nxt = node.get(f)
+            if nxt is None:
+                nxt = node[f] = {}
+            node = nxt
+        leaf = node.get(fp[-1])
+        if leaf is None:
+            leaf = node[fp[-1]] = []
+        leaf.append((term, value))
+        self.size += 1
+
+    def _retrieve(self, query, mode):
+        ok = _OK[mode]
+        fp = fingerprint(query, self.positions)
+        last = len(fp) - 1
+        stack = [(self.root, 0)]
+        while stack:
+            node, d = stack.pop()
+            q = fp[d]
+            if d == last:
+                for e, leaf in node.items():
+                    if ok(q, e):
+                        for entry in leaf:
+                            if entry[1][0].alive:
+                                yield entry
+            else:
+                if type(q) is str and mode == "inst":
+                    nxt = node.get(q)
+                    if nxt is not None:
+                        stack.append((nxt, d + 1))
+                    continue
+                for e, nxt in node.items():
+                    if ok(q, e):
+                        stack.append((nxt, d + 1))
+
+    def unifiable(self, query):
+        return self._retrieve(query, "unify")
+
+    def generalizations(self, query):
+        return self._retrieve(query, "gen")
+
+    def instances(self, query):
+        return self._retrieve(query, "inst")
+
+    def note_dead(self, n: int = 1) -> None:
+        """Tell the index that ``n`` entries died; purge when they dominate."""
+        self.dead += n
+        if self.dead > 1000 and self.dead * 2 > self.size:
+            self.purge()
+
+    def purge(self) -> None:
+        def walk(node, depth):
+            for k in list(node):
+                child = node[k]
+                if type(child) is list:
+                    child[:] = [e for e in child if e[1][0].alive]
+                    if not child:
+                        del node[k]
+                else:
+                    walk(child, depth + 1)
+                    if not child:
+                        del node[k]
+        walk(self.root, 0)
+        self.size = sum(1 for _ in self._all())
+        self.dead = 0
+
+    def _all(self):
+        stack = [self.root]
+        while stack:
+            node = stack.pop()
+            for child in node.values():
+                if type(child) is list:
+                    yield from child
+                else:
+                    stack.append(child)
+
+
+class LinearIndex:
+    """The naive mode: a list, every entry is a candidate."""
+    __slots__ = ("entries", "size", "dead")
+
+    def __init__(self, positions=None):
+        self.entries: list = []
+        self.size = 0
+        self.dead = 0
+
+    def insert(self, term, value) -> None:
+        self.entries.append((term, value))
+        self.size += 1
+
+    def _scan(self, query):
+        for entry in self.entries:
+            if entry[1][0].alive:
+                yield entry
+
+    unifiable = generalizations = instances = _scan
+
+    def note_dead(self, n: int = 1) -> None:
+        self.dead += n
+        if self.dead > 1000 and self.dead * 2 > self.size:
+            self.entries = [e for e in self.entries if e[1][0].alive]
+            self.size = len(self.entries)
+            self.dead = 0

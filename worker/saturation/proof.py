@@ -1,0 +1,133 @@
+"""Proof extraction (to the step format of DEVELOPERS.md, "Proofs") and the
+readable numbered form.
+
+:func:`extract` keeps only the clauses the empty clause depends on, numbers
+them 1..n in dependency order and writes each step's rule fields;
+:func:`format_proof` prints a proof dict in the native notation.
+"""
+
+from __future__ import annotations
+
+from worker.syntax.printer import format_clause, format_term
+from worker.syntax.terms import clause_from_json, clause_to_json, from_json, to_json
+
+_FIELDS = ("lits", "side", "sides", "position", "offsets")
+
+
+def extract(empty, cp=None) -> dict:
+    """The proof of ``empty`` (a Clause without literals) as data."""
+    seen = {}
+    stack = [empty]
+    while stack:
+        c = stack.pop()
+        if c.id in seen:
+            continue
+        seen[c.id] = c
+        stack.extend(c.parents)
+    order = sorted(seen.values(), key=lambda c: c.id)
+    num = {c.id: k + 1 for k, c in enumerate(order)}
+    steps = []
+    axioms = []
+    for c in order:
+        st = {"id": num[c.id], "clause": clause_to_json(c.lits), "rule": c.rule,
+              "parents": [num[p.id] for p in c.parents]}
+        info = c.info or {}
+        if c.rule == "input":
+            st["formula"] = info.get("formula")
+            st["role"] = info.get("role")
+            st["conj"] = bool(info.get("conj"))
+            if not st["conj"] and st["formula"] not in axioms:
+                axioms.append(st["formula"])
+        else:
+            for k in _FIELDS:
+                if k in info:
+                    st[k] = list(info[k]) if isinstance(info[k], (list, tuple)) else info[k]
+            if c.parents:
+                st["subst"] = {str(v): to_json(t)
+                               for v, t in sorted((info.get("sigma") or {}).items())}
+        steps.append(st)
+    proof = {"steps": steps, "conjecture": getattr(cp, "conjecture", None),
+             "axioms_used": axioms, "skolems": {}, "definitions": {}}
+    if cp is not None:
+        for name, sk in (cp.skolems or {}).items():
+            proof["skolems"][name] = {"arity": sk.arity, "statement": sk.statement}
+        for name, d in (cp.definitions or {}).items():
+            proof["definitions"][name] = {"arity": d.arity, "statement": d.statement,
+                                          "formula": d.formula, "polarity": d.polarity}
+    return proof
+
+
+def _pos(p) -> str:
+    return ".".join(str(i) for i in p) if p else "root"
+
+
+def _subst_text(subst: dict) -> str:
+    if not subst:
+        return ""
+    parts = []
+    for k, v in subst.items():
+        parts.append(f"X{k} := {format_term(from_json(v))}")
+    return "; " + ", ".join(parts)
+
+
+def describe_step(st: dict) -> str:
+    """The justification column of one step."""
+    rule = st["rule"]
+    ps = st.get("parents") or []
+    if rule == "input":
+        who = "negated conjecture" if st.get("conj") else (st.get("role") or "axiom")
+        return f"from {st.get('formula')} ({who})"
+    if rule == "equality_axiom":
+        return "equality axiom"
+    sub = _subst_text(st.get("subst") or {})
+    lits = st.get("lits") or []
+    if rule == "superposition" or rule == "demodulation":
+        how = "rewrite" if rule == "demodulation" else "superposition"
+        return (f"{how}: {ps[0]} into {ps[1]} at literal {lits[1] + 1}, "
+                f"position {_pos(st.get('position'))}{sub}")
+    if rule == "resolution":
+        return f"resolution of {ps[0]} and {ps[1]} on literals {lits[0] + 1}, {lits[1] + 1}{sub}"
+    if rule == "subsumption_resolution":
+        return f"cut literal {lits[1] + 1} of {ps[1]} with {ps[0]}{sub}"
+    if rule == "factoring":
+        return f"factoring {ps[0]} on literals {lits[0] + 1}, {lits[1] + 1}{sub}"
+    if rule == "equality_resolution":
+        return f"equality resolution on {ps[0]}, literal {lits[0] + 1}{sub}"
+    if rule == "equality_factoring":
+        return f"equality factoring {ps[0]} on literals {lits[0] + 1}, {lits[1] + 1}{sub}"
+    if rule == "duplicate_removal":
+        return f"merge repeated literals of {ps[0]}"
+    return f"{rule} {', '.join(map(str, ps))}{sub}"
+
+
+def format_proof(proof: dict) -> str:
+    """Numbered proof in the native notation, one step a line:
+    ``number. clause    [justification]``."""
+    lines = []
+    sk = proof.get("skolems") or {}
+    used = set()
+    for st in proof.get("steps", []):
+        for _s, a in clause_from_json(st["clause"]):
+            stack = [a]
+            while stack:
+                x = stack.pop()
+                if type(x) is str:
+                    used.add(x)
+                elif type(x) is tuple:
+                    used.add(x[0])
+                    stack.extend(x[1:])
+    for name, info in sk.items():
+        if name in used:
+            lines.append(f"  new symbol {name}/{info['arity']}: witness introduced for {info['statement']}")
+    for name, info in (proof.get("definitions") or {}).items():
+        if name in used:
+            lines.append(f"  new symbol {name}/{info['arity']}: names \"{info['formula']}\" "
+                         f"in {info['statement']}")
+    steps = proof.get("steps", [])
+    width = len(str(len(steps) and steps[-1]["id"]))
+    for st in steps:
+        text = format_clause(clause_from_json(st["clause"]))
+        lines.append(f"  {st['id']:>{width}}. {text}    [{describe_step(st)}]")
+    if proof.get("axioms_used"):
+        lines.append("  axioms used: " + ", ".join(proof["axioms_used"]))
+    return "\n".join(lines)
