@@ -53,29 +53,32 @@ def equality_axioms(cp) -> list[tuple]:
     * reflexivity ``x = x``;
     * symmetry ``x != y or y = x``;
     * transitivity ``x != y or y != z or x = z``;
-    * for each function ``f`` of arity n >= 1:
-      ``x1 != y1 or ... or xn != yn or f(x1..xn) = f(y1..yn)``;
-    * for each predicate ``p`` of arity n >= 1:
-      ``x1 != y1 or ... or xn != yn or not p(x1..xn) or p(y1..yn)``.
+    * for each function ``f`` of arity n and each argument k:
+      ``xk != y or f(x1..xk..xn) = f(x1..y..xn)``;
+    * for each predicate ``p`` of arity n and each argument k:
+      ``xk != y or not p(x1..xk..xn) or p(x1..y..xn)``.
+
+    One clause per argument position (rather than one per symbol with all
+    arguments at once): shorter clauses, which resolution handles better.
     """
     out = [(_eq(True, 0, 0),),
            (_eq(False, 0, 1), _eq(True, 1, 0)),
            (_eq(False, 0, 1), _eq(False, 1, 2), _eq(True, 0, 2))]
     funs, preds = symbols_of(cp)
     for f in sorted(funs):
-        n = funs[f]
-        if n < 1:
-            continue
-        xs = tuple(range(n))
-        ys = tuple(range(n, 2 * n))
-        lits = tuple(_eq(False, x, y) for x, y in zip(xs, ys))
-        out.append(lits + (_eq(True, (f, *xs), (f, *ys)),))
+        for k in range(funs[f]):
+            out.append(_congruence(f, funs[f], k, True))
     for p in sorted(preds):
-        n = preds[p]
-        if n < 1:
-            continue
-        xs = tuple(range(n))
-        ys = tuple(range(n, 2 * n))
-        lits = tuple(_eq(False, x, y) for x, y in zip(xs, ys))
-        out.append(lits + ((False, (p, *xs)), (True, (p, *ys))))
+        for k in range(preds[p]):
+            out.append(_congruence(p, preds[p], k, False))
     return out
+
+
+def _congruence(f: str, n: int, k: int, function: bool) -> tuple:
+    """The congruence axiom of ``f`` in argument ``k`` (from 0): arguments
+    ``x0..x(n-1)``, the k-th replaced by ``y`` (variable ``n``)."""
+    xs = tuple(range(n))
+    ys = xs[:k] + (n,) + xs[k + 1:]
+    if function:
+        return (_eq(False, k, n), _eq(True, (f, *xs), (f, *ys)))
+    return (_eq(False, k, n), (False, (f, *xs)), (True, (f, *ys)))

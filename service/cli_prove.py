@@ -1,0 +1,126 @@
+"""``nightjar prove``: decide every proof obligation of the given files in
+this process and print the verdicts.
+
+Exit codes: 0 every obligation got a definite verdict, 1 an input error, 3
+some obligation ended without a definite verdict.
+"""
+
+from __future__ import annotations
+
+import json
+import sys
+
+from worker import verdict as V
+from worker.syntax import disk_reader, load_problem
+from worker.syntax.errors import InputError
+
+EXIT_OK, EXIT_INPUT, EXIT_UNDECIDED = 0, 1, 3
+
+
+def register(subparsers) -> None:
+    p = subparsers.add_parser(
+        "prove", help="prove the conjectures of problem files here and now",
+        description="Read each FILE (native .nj or TPTP), and for each of its "
+                    "conjectures (or, without one, the satisfiability of the "
+                    "file) search for a proof and for a finite countermodel "
+                    "under one time limit.  Exit 0 when every obligation got a "
+                    "definite verdict, 1 on an input error, 3 otherwise.")
+    p.add_argument("files", nargs="+", metavar="FILE")
+    p.add_argument("--time-limit", type=float, default=10.0, metavar="S",
+                   help="wall-clock seconds per obligation (default 10)")
+    p.add_argument("--json", action="store_true",
+                   help="one JSON object per obligation per line")
+    p.add_argument("--strategy", metavar="NAME",
+                   help="run only this strategy instead of the default schedule")
+    p.add_argument("--equality", choices=("builtin", "axioms"), default="builtin",
+                   help="built-in equality (default) or equality as axioms")
+    p.add_argument("--no-models", action="store_true",
+                   help="do not search for finite countermodels")
+    p.add_argument("--language", choices=("native", "tptp"),
+                   help="read every file in this language (default: told apart from the text)")
+    p.add_argument("--include-root", metavar="DIR",
+                   help="second place to look for included files")
+    p.set_defaults(func=run_prove)
+
+
+def _format_model(model) -> str:
+    try:
+        from worker.models.display import format_model
+    except ImportError:
+        return json.dumps(model)
+    return format_model(model)
+
+
+def _human(path: str, res: dict) -> str:
+    from worker.saturation.proof import format_proof
+    name = res.get("conjecture")
+    what = f"conjecture {name}" if name else "satisfiability of the file"
+    figs = res.get("figures") or {}
+    lines = [f"{path}: {what}: {res['status']}  ({res['seconds']:.2f} s)"]
+    if res["status"] == V.CONTRADICTORY_AXIOMS:
+        lines.append("  WARNING: THE AXIOMS CONTRADICT EACH OTHER. The proof below never "
+                     "uses the conjecture: every statement whatsoever follows from "
+                     "these axioms. Fix the axioms before trusting any verdict on them.")
+    lines.append(f"  strategy {res.get('strategy') or '-'}; given {figs.get('given', 0)}, "
+                 f"generated {figs.get('generated', 0)}, kept {figs.get('kept', 0)}")
+    if res.get("proof"):
+        lines.append("  proof:")
+        lines.append(format_proof(res["proof"]))
+    elif res.get("model"):
+        lines.append("  countermodel:" if name else "  model:")
+        lines.append("    " + _format_model(res["model"]).replace("\n", "\n    "))
+    if res.get("reason") and res["status"] not in (V.THEOREM, V.UNSATISFIABLE):
+        lines.append(f"  why: {res['reason']}")
+    cert = res.get("certificate") or {}
+    kind = cert.get("kind", "none")
+    text = {"proof-replayed": f"proof replayed, {cert.get('checked', 0)} steps checked",
+            "model-evaluated": f"model evaluated, {cert.get('checked', 0)} formulas checked",
+            "failed": f"CHECK FAILED: {cert.get('detail', '')}",
+            "none": "nothing checked" + (f" ({cert['detail']})" if cert.get("detail") else "")}
+    lines.append(f"  certificate: {text.get(kind, kind)}")
+    return "\n".join(lines)
+
+
+def run_prove(args) -> int:
+    from worker.pipeline import decide
+    from worker.saturation import strategy as S
+
+    if args.strategy and args.strategy not in S.STRATEGIES:
+        print(f"nightjar: unknown strategy {args.strategy!r}; known: "
+              + ", ".join(sorted(S.STRATEGIES)), file=sys.stderr)
+        return 2
+    if args.time_limit <= 0:
+        print("nightjar: --time-limit must be positive", file=sys.stderr)
+        return 2
+    settings = V.Settings(limits=V.Limits(time=args.time_limit),
+                          strategy=args.strategy, equality=args.equality,
+                          model_search=not args.no_models)
+    code = EXIT_OK
+    for path in args.files:
+        try:
+            problem = load_problem(path, disk_reader(), language=args.language,
+                                   include_root=args.include_root)
+        except InputError as e:
+            print(e.render(), file=sys.stderr)
+            if args.json:
+                print(json.dumps({"file": path, "conjecture": None,
+                                  "status": V.INPUT_ERROR, "seconds": 0.0,
+                                  "strategy": None, "axioms_used": [], "proof": None,
+                                  "model": None, "certificate": V.certificate("none"),
+                                  "reason": e.render()}))
+            code = EXIT_INPUT
+            continue
+        for conj in problem.obligations():
+            res = decide(problem, conj, settings)
+            if res["status"] == V.INPUT_ERROR:
+                code = EXIT_INPUT
+            elif res["status"] not in V.DEFINITE and code == EXIT_OK:
+                code = EXIT_UNDECIDED
+            if res["status"] == V.CONTRADICTORY_AXIOMS:
+                print(f"nightjar: WARNING: {path}: the axioms contradict each other "
+                      f"(every conjecture follows from them)", file=sys.stderr)
+            if args.json:
+                print(json.dumps(dict(file=path, **res)), flush=True)
+            else:
+                print(_human(path, res), flush=True)
+    return code
