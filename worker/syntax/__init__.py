@@ -12,6 +12,7 @@ See DEVELOPERS.md, "Reading problems".
 
 from __future__ import annotations
 
+import gc
 import os
 import sys
 
@@ -38,11 +39,20 @@ __all__ = [
 
 
 def _guard(fn, *a):
+    # Reading builds millions of small objects and no reference cycles; the
+    # cyclic garbage collector would rescan the growing heap again and again
+    # (measured: a 5 MB file in 8 s with it, under 3 s without), so it is
+    # paused while reading.
+    was = gc.isenabled()
+    gc.disable()
     try:
         return fn(*a)
     except RecursionError:
         raise LimitError("the input is nested too deeply to be read "
                          f"(the limit is {MAX_DEPTH:,} levels)") from None
+    finally:
+        if was:
+            gc.enable()
 
 
 def load_problem(main: str, read=None, *, language: str | None = None,

@@ -75,7 +75,6 @@ class Loader:
         self.files: list = []
         self.stack: list = []
         self.loaded: dict = {}
-        self.emitted: set = set()
         self.total = 0
         self.main_language = "native"
 
@@ -108,8 +107,7 @@ class Loader:
             raise InputError(f"cannot read '{main}': no such file") from None
         if self.record is not None:
             self.record(main, text)
-        statements = self.parse_file(main, text, top=True)
-        self.check_names(statements)
+        statements = self.check_names(self.parse_file(main, text, top=True))
         if not statements:
             raise InputError("the problem has no statements (its includes are empty)",
                              Span(main, 1, 1))
@@ -117,8 +115,7 @@ class Loader:
                        self.main_language)
 
     def parse_text(self, name: str, text: str) -> Problem:
-        statements = self.parse_file(name, text, top=True)
-        self.check_names(statements)
+        statements = self.check_names(self.parse_file(name, text, top=True))
         return Problem(statements, self.symbols.signature(), self.files, name,
                        self.main_language)
 
@@ -147,7 +144,7 @@ class Loader:
             hint = ("write a statement such as: axiom a1: p(x)" if lang == "native"
                     else "write a statement such as: fof(a1, axiom, p(a)).")
             raise InputError(f"the file is {what}: there is nothing to prove or check",
-                             Span(name, 1, 1), None, hint)
+                             Span(name, 1, 1), src.line(1) or "", hint)
         return statements
 
     def include(self, path: str, src: Source, offset: int, names) -> list:
@@ -212,26 +209,30 @@ class Loader:
                                     f"named '{nm}'", off)
                 picked.append(have[nm])
             stmts = picked
-        out = [s for s in stmts if id(s) not in self.emitted]
-        self.emitted.update(id(s) for s in out)
-        return out
+        return stmts
 
-    def check_names(self, statements) -> None:
+    def check_names(self, statements) -> list:
+        """Drop repeats of a statement (a file included twice) and refuse two
+        statements with one name; return the statements in order."""
         seen: dict = {}
+        out = []
+        done = set()
         for s in statements:
+            if id(s) in done:
+                continue
+            done.add(id(s))
+            out.append(s)
             first = seen.get(s.name)
             if first is not None:
                 src = self.sources.get(s.span.file)
-                line_text = None
-                if src is not None:
-                    line_text = src.text.split("\n", s.span.line)[s.span.line - 1] \
-                        if s.span.line <= src.text.count("\n") + 1 else None
+                line_text = src.line(s.span.line) if src is not None else None
                 raise InputError(f"duplicate statement name '{s.name}': it already "
                                  f"names the statement at {first.span}",
                                  s.span, line_text,
                                  "statement names are unique in a problem, includes "
                                  "counted")
             seen[s.name] = s
+        return out
 
 
 # -------------------------------------------------------------- readers

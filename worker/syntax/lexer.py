@@ -57,6 +57,13 @@ class Source:
         end = self.text.find("\n", st[ln])
         return self.text[st[ln]:] if end < 0 else self.text[st[ln]:end]
 
+    def line(self, n: int) -> str | None:
+        """The text of line ``n`` (from 1), or None."""
+        st = self.starts()
+        if not 1 <= n <= len(st):
+            return None
+        return self.line_text(st[n - 1])
+
     def error(self, message: str, offset: int, hint: str | None = None,
               cls=InputError) -> InputError:
         offset = max(0, min(offset, len(self.text)))

@@ -182,6 +182,15 @@ class NativeParser:
                     msg += f"; did you mean '{s}'?"
                 raise self.err(msg, hint="a statement starts with axiom, hypothesis "
                                          "or conjecture")
+            prev = self.t[i - 1] if self.k[i - 1] == "name" else None
+            if prev and self.k[i + 1] in (".", "name"):
+                q = suggest_keyword(prev, ("forall", "exists"))
+                if q:
+                    raise self.err(f"unknown keyword '{prev}'; did you mean '{q}'?", i - 1,
+                                   hint=f"write {q} x y. FORMULA")
+            c = suggest_keyword(word, ("and", "or", "implies", "iff", "not"))
+            if c:
+                raise self.err(f"unknown connective '{word}'; did you mean '{c}'?")
             raise self.err(f"expected a connective (and, or, implies, iff) or a new "
                            f"statement, found {self.found()}",
                            hint="a new statement starts with axiom, hypothesis or "

@@ -46,9 +46,11 @@ def quote_name(name: str) -> str:
     return "'" + name.replace("\\", "\\\\").replace("'", "\\'") + "'"
 
 
-def symbol_name(name: str, bound=None) -> str:
-    """How a symbol is written: bare when that reads back as the symbol."""
-    if is_identifier(name) and not (bound and name in bound):
+def symbol_name(name: str, bound=None, head: bool = False) -> str:
+    """How a symbol is written: bare when that reads back as the symbol
+    (``head``: it is applied to arguments, where a number cannot stand)."""
+    if (is_identifier(name) and not (bound and name in bound)
+            and not (head and name[0].isdigit())):
         return name
     return quote_name(name)
 
@@ -72,7 +74,7 @@ def format_term(t, names: dict | None = None, _ctx: int = 0, _bound=None) -> str
         right = format_term(t[2], names, p + 1, _bound)
         s = f"{left} {f} {right}"
         return f"({s})" if p < _ctx else s
-    return (symbol_name(f, _bound) + "("
+    return (symbol_name(f, _bound, True) + "("
             + ", ".join(format_term(a, names, 0, _bound) for a in t[1:]) + ")")
 
 
@@ -82,7 +84,9 @@ def _format_pred(a, names, bound) -> str:
     if type(a) is tuple and a[0] in INFIX:
         return (quote_name(a[0]) + "("
                 + ", ".join(format_term(x, names, 0, bound) for x in a[1:]) + ")")
-    return format_term(a, names, 0, bound)
+    if type(a) is tuple:
+        return format_term(a, names, 0, bound)
+    return symbol_name(a, bound)
 
 
 def format_atom(a, names: dict | None = None, _bound=None) -> str:
