@@ -55,21 +55,25 @@ def _redis_down(e):
 
 # -- reading submissions ---------------------------------------------------
 
-def _bundle(obj, where: str) -> dict:
+def _bundle(obj, where: str, several_mains: bool = False) -> dict:
     if not isinstance(obj, dict):
         raise BadRequest("bad_request", f"{where} must be an object with 'main' and 'files'")
     main, files = obj.get("main"), obj.get("files")
-    if not isinstance(main, str) or not main:
-        raise BadRequest("bad_request", f"{where}.main must be a file name")
     if not isinstance(files, dict) or not files or not all(
             isinstance(k, str) and isinstance(v, str) for k, v in files.items()):
         raise BadRequest("bad_request", f"{where}.files must map file names to texts")
-    if main not in files:
-        raise BadRequest("bad_request", f"{where}: the main file {main!r} is not among its files")
+    mains = main if several_mains and isinstance(main, list) else [main]
+    if not mains or not all(isinstance(m, str) and m for m in mains):
+        raise BadRequest("bad_request", f"{where}.main must be a file name"
+                         + (" or a list of them" if several_mains else ""))
+    for m in mains:
+        if m not in files:
+            raise BadRequest("bad_request", f"{where}: the main file {m!r} is not among its files")
     lang = obj.get("language")
     if lang not in (None, "native", "tptp"):
         raise BadRequest("bad_request", f"{where}.language must be 'native' or 'tptp'")
-    return {"main": main, "files": dict(files), "language": lang}
+    return {"main": main if isinstance(main, list) else main, "files": dict(files),
+            "language": lang}
 
 
 def _looks_tptp(name: str, text: str) -> bool:
@@ -78,19 +82,20 @@ def _looks_tptp(name: str, text: str) -> bool:
 
 
 def _with_axioms(axioms: dict, name: str, text: str) -> dict:
-    """A bundle of one conjecture file that includes the axiom file.  The
-    include goes at the end so the conjecture's own lines keep their numbers."""
+    """A bundle of one conjecture file that includes the axiom file(s).  The
+    includes go at the end so the conjecture's own lines keep their numbers."""
     if name in axioms["files"]:
         raise BadRequest("bad_request", f"conjecture file {name!r} has the same name "
                                         f"as a file of the axioms")
-    rel = posixpath.relpath(axioms["main"], posixpath.dirname(name) or ".")
-    if _looks_tptp(name, text):
-        inc = f"include('{rel}')."
-    else:
-        inc = f'include "{rel}"'
+    mains = axioms["main"] if isinstance(axioms["main"], list) else [axioms["main"]]
+    tptp = _looks_tptp(name, text)
+    incs = []
+    for m in mains:
+        rel = posixpath.relpath(m, posixpath.dirname(name) or ".")
+        incs.append(f"include('{rel}')." if tptp else f'include "{rel}"')
     sep = "" if text.endswith("\n") or not text else "\n"
     files = dict(axioms["files"])
-    files[name] = f"{text}{sep}{inc}\n"
+    files[name] = text + sep + "\n".join(incs) + "\n"
     return {"main": name, "files": files, "language": None}
 
 
@@ -164,7 +169,7 @@ def submit():
         bundles = [_bundle(p, f"problems[{i}]") for i, p in enumerate(items)]
         queue_name = QUEUE_BATCH
     elif "conjectures" in body:
-        axioms = _bundle(body.get("axioms"), "axioms")
+        axioms = _bundle(body.get("axioms"), "axioms", several_mains=True)
         items = body["conjectures"]
         if not isinstance(items, list) or not items:
             raise BadRequest("bad_request", "conjectures must be a non-empty list")

@@ -123,6 +123,22 @@ def worker_name() -> str:
     return f"{socket.gethostname()}.{os.getpid()}.{next(_names)}"
 
 
+PRELOAD = ("worker.jobs", "worker.pipeline", "worker.syntax", "worker.clausify",
+           "worker.portfolio", "worker.certify.proofcheck", "worker.certify.evaluate",
+           "service.store")
+
+
+def preload() -> None:
+    """Import the engine once in the worker, so every forked work horse has
+    it already (a fresh import per job costs more than a small proof)."""
+    import importlib
+    for name in PRELOAD:
+        try:
+            importlib.import_module(name)
+        except ImportError as e:
+            log.info("preload %s: %s", name, e)
+
+
 def run_worker(url: str, config: Config, *, burst: bool = False,
                sweeper: bool = True, log_level: str = "WARNING") -> int:
     """The ``nightjar worker`` loop: an RQ worker on both queues
@@ -130,6 +146,7 @@ def run_worker(url: str, config: Config, *, burst: bool = False,
     os.environ["NIGHTJAR_REDIS_URL"] = url
     os.environ["NJ_WORKER_PID"] = str(os.getpid())
     os.environ.setdefault("NIGHTJAR_MEMORY_MB", str(config.memory_mb))
+    preload()
     sw = None
     if sweeper:
         sw = Sweeper(url, config)

@@ -1,0 +1,241 @@
+"""An HTTP client of the JSON API (standard library only).
+
+    c = Client.find()                      # the home's service and token
+    c = Client("http://host:port", token)  # or an explicit one
+    sub = c.submit_files(["a.nj"], time_limit=5)
+    batch = c.wait(sub["batch"])
+    for job in c.jobs(sub["batch"]): ...
+
+Includes are resolved here, on the user's side: each file is sent with every
+file it includes (``worker.syntax.collect_bundle``).  Every failure to reach
+the service raises :class:`ServiceUnavailable`; an error answer raises
+:class:`ApiError` with the server's JSON error.
+"""
+
+from __future__ import annotations
+
+import json
+import os
+import posixpath
+import time
+import urllib.error
+import urllib.parse
+import urllib.request
+from pathlib import Path
+
+from .config import home_dir
+
+START_HINT = "start one with: nightjar serve"
+
+
+class ServiceUnavailable(Exception):
+    """Nothing answers at the service's address."""
+
+    def __init__(self, url: str | None, why: str = ""):
+        self.url = url
+        where = f" at {url}" if url else ""
+        super().__init__(f"no Nightjar service answers{where}"
+                         + (f" ({why})" if why else "") + f"; {START_HINT}")
+
+
+class ApiError(Exception):
+    def __init__(self, status: int, error: dict):
+        self.status = status
+        self.error = error or {}
+        super().__init__(self.error.get("text") or self.error.get("message")
+                         or f"HTTP {status}")
+
+    @property
+    def code(self) -> str:
+        return self.error.get("code", "")
+
+
+class Client:
+    def __init__(self, url: str, token: str | None = None, timeout: float = 60.0):
+        self.url = url.rstrip("/")
+        self.token = token
+        self.timeout = timeout
+
+    # -- finding the service ---------------------------------------------
+    @classmethod
+    def find(cls, server: str | None = None, token: str | None = None,
+             home: Path | None = None) -> "Client":
+        """``server`` / ``token`` if given, else ``NIGHTJAR_SERVER`` /
+        ``NIGHTJAR_TOKEN``, else the home's server.json and token file."""
+        from .embedded import read_server, read_token
+        home = Path(home) if home else home_dir()
+        url = server or os.environ.get("NIGHTJAR_SERVER")
+        if not url:
+            info = read_server(home)
+            if not info:
+                raise ServiceUnavailable(None, f"no service recorded in {home}")
+            url = info["url"]
+        tok = token or os.environ.get("NIGHTJAR_TOKEN") or read_token(home)
+        return cls(url, tok)
+
+    # -- plumbing ----------------------------------------------------------
+    def request(self, method: str, path: str, body=None, query: dict | None = None):
+        url = self.url + path
+        if query:
+            q = {k: v for k, v in query.items() if v is not None}
+            if q:
+                url += "?" + urllib.parse.urlencode(q)
+        data = None
+        headers = {"Accept": "application/json"}
+        if body is not None:
+            data = json.dumps(body).encode()
+            headers["Content-Type"] = "application/json"
+        if self.token:
+            headers["Authorization"] = f"Bearer {self.token}"
+        req = urllib.request.Request(url, data=data, headers=headers, method=method)
+        try:
+            with urllib.request.urlopen(req, timeout=self.timeout) as resp:
+                return json.loads(resp.read() or b"null")
+        except urllib.error.HTTPError as e:
+            raw = e.read()
+            try:
+                err = json.loads(raw).get("error") or {}
+            except (ValueError, AttributeError):
+                err = {"message": raw.decode(errors="replace")[:300] or e.reason}
+            if e.code == 503 and err.get("code") == "storage_unavailable":
+                raise ServiceUnavailable(self.url, err.get("message", "")) from None
+            raise ApiError(e.code, err) from None
+        except (urllib.error.URLError, ConnectionError, TimeoutError, OSError) as e:
+            why = getattr(e, "reason", None) or e
+            raise ServiceUnavailable(self.url, str(why)) from None
+
+    def get(self, path, **query):
+        return self.request("GET", path, query=query)
+
+    def post(self, path, body=None):
+        return self.request("POST", path, body if body is not None else {})
+
+    # -- the API -----------------------------------------------------------
+    def health(self) -> dict:
+        return self.get("/api/health")
+
+    def submit(self, body: dict) -> dict:
+        return self.post("/api/submissions", body)
+
+    def job(self, jid):
+        return self.get(f"/api/jobs/{jid}")
+
+    def proof(self, jid):
+        return self.get(f"/api/jobs/{jid}/proof")
+
+    def model(self, jid):
+        return self.get(f"/api/jobs/{jid}/model")
+
+    def figures(self, jid):
+        return self.get(f"/api/jobs/{jid}/figures")
+
+    def problem(self, jid):
+        return self.get(f"/api/jobs/{jid}/problem")
+
+    def cancel_job(self, jid):
+        return self.post(f"/api/jobs/{jid}/cancel")
+
+    def batch(self, bid):
+        return self.get(f"/api/batches/{bid}")
+
+    def batches(self, offset=0, limit=50):
+        return self.get("/api/batches", offset=offset, limit=limit)["batches"]
+
+    def batch_jobs(self, bid, state=None, verdict=None, offset=0, limit=500):
+        return self.get(f"/api/batches/{bid}/jobs", state=state, verdict=verdict,
+                        offset=offset, limit=limit)
+
+    def jobs(self, bid, state=None, verdict=None, page=500):
+        """Every job of a batch (all pages), in submission order."""
+        offset = 0
+        while True:
+            r = self.batch_jobs(bid, state, verdict, offset, page)
+            yield from r["jobs"]
+            offset += len(r["jobs"])
+            if not r["jobs"] or offset >= r["total"]:
+                return
+
+    def cancel_batch(self, bid):
+        return self.post(f"/api/batches/{bid}/cancel")
+
+    def wait(self, bid: str, on_progress=None, interval: float = 0.3,
+             timeout: float | None = None) -> dict:
+        """Poll a batch until every job has settled; ``on_progress(batch)``
+        is called on every poll."""
+        start = time.monotonic()
+        delay = min(0.05, interval)
+        while True:
+            b = self.batch(bid)
+            if on_progress:
+                on_progress(b)
+            if b["finished"]:
+                return b
+            if timeout is not None and time.monotonic() - start > timeout:
+                raise TimeoutError(f"batch {bid} not settled after {timeout:.0f}s")
+            time.sleep(delay)
+            delay = min(delay * 1.5, interval)
+
+    # -- submitting files --------------------------------------------------
+    def submit_files(self, paths: list, *, axioms: list | None = None,
+                     time_limit: float | None = None, label: str | None = None,
+                     strategy: str | None = None, reuse: bool = False,
+                     queue: str | None = None, root: str | None = None) -> dict:
+        """One problem file, several, or conjecture files against axiom
+        files.  Raises InputError (from reading on this side), ApiError,
+        ServiceUnavailable."""
+        body = submission_body(paths, axioms=axioms, root=root)
+        for k, v in (("time_limit", time_limit), ("label", label),
+                     ("strategy", strategy), ("queue", queue)):
+            if v is not None:
+                body[k] = v
+        if reuse:
+            body["reuse"] = True
+        return self.submit(body)
+
+
+def _name(path: str, root: str) -> str:
+    """A bundle name for a file: its path relative to ``root`` when inside
+    it, else its base name; posix style."""
+    ap = os.path.abspath(path)
+    rel = os.path.relpath(ap, root)
+    if rel.startswith(os.pardir + os.sep) or rel == os.pardir or os.path.isabs(rel):
+        rel = os.path.basename(ap)
+    return rel.replace(os.sep, "/")
+
+
+def bundle_of(path: str, root: str | None = None) -> dict:
+    """``{"main", "files"}`` for a file and everything it includes, names
+    relative to ``root`` (default: the current folder)."""
+    from worker.syntax import collect_bundle
+    root = os.path.abspath(root or os.getcwd())
+    main = _name(path, root)
+    prefix = posixpath.dirname(main)
+    files = collect_bundle(path)
+    out = {}
+    for name, text in files.items():
+        full = posixpath.normpath(posixpath.join(prefix, name)) if prefix else name
+        out[full] = text
+    return {"main": main, "files": out}
+
+
+def submission_body(paths: list, *, axioms: list | None = None,
+                    root: str | None = None) -> dict:
+    paths = [str(p) for p in paths]
+    if axioms:
+        files: dict = {}
+        mains = []
+        for a in axioms:
+            b = bundle_of(str(a), root)
+            files.update(b["files"])
+            mains.append(b["main"])
+        conj = []
+        for p in paths:
+            b = bundle_of(p, root)
+            extra = {k: v for k, v in b["files"].items() if k != b["main"]}
+            files.update(extra)        # a conjecture file's own includes go along
+            conj.append({"name": b["main"], "text": b["files"][b["main"]]})
+        return {"axioms": {"main": mains if len(mains) > 1 else mains[0], "files": files},
+                "conjectures": conj}
+    if len(paths) == 1:
+        return {"problem": bundle_of(paths[0], root)}
+    return {"problems": [bundle_of(p, root) for p in paths]}
