@@ -20,7 +20,8 @@ from .config import Config
 from .queue import Dispatcher, connect
 from .store import Store
 
-OPTIONAL_BLUEPRINTS = ("service.corpus_api", "service.web.views")
+OPTIONAL_BLUEPRINTS = ("service.corpus_api", "service.web.views",
+                       "service.limits", "service.metrics", "service.openapi")
 
 
 @dataclass
