@@ -1,0 +1,317 @@
+"""``nightjar corpus run`` and ``nightjar corpus diff``.
+
+    nightjar corpus run DIR|MANIFEST [--wait] [--full] [--json]
+    nightjar corpus diff [RUN_A RUN_B] [--suite NAME] [--json] [--threshold SECONDS]
+
+``run`` loads the suite on this side (every problem in it reported at once,
+with its file:line:col, before anything is sent), submits it as one run,
+and with ``--wait`` follows it with a progress bar and prints the report.
+``diff`` compares two runs (default: the suite's last two).  Exit codes
+(DEVELOPERS.md): 0 fine; 1 input error; 2 usage; 3 some obligation without a
+definite verdict; 4 no service; 5 something lost, flipped, unexpected, or
+the axioms contradictory.
+"""
+
+from __future__ import annotations
+
+import json
+import sys
+import time
+
+EXIT_OK, EXIT_INPUT, EXIT_USAGE, EXIT_UNDECIDED, EXIT_NO_SERVICE, EXIT_REGRESSION = 0, 1, 2, 3, 4, 5
+
+
+def _client(args):
+    from .client import Client
+    return Client.find(server=getattr(args, "server", None))
+
+
+def _guarded(fn):
+    def run(args):
+        from .client import ApiError, ServiceUnavailable
+        try:
+            return fn(args)
+        except ServiceUnavailable as e:
+            print(f"nightjar: {e}", file=sys.stderr)
+            return EXIT_NO_SERVICE
+        except ApiError as e:
+            err = e.error
+            if err.get("code") == "input_error":
+                print(err.get("text") or err.get("message"), file=sys.stderr)
+                return EXIT_INPUT
+            print(f"nightjar: {e}", file=sys.stderr)
+            return EXIT_INPUT if e.status == 400 else EXIT_USAGE
+    return run
+
+
+# -- printing ----------------------------------------------------------------
+
+def _secs(x) -> str:
+    return "-" if x is None else f"{x:.2f}"
+
+
+def axioms_line(summary: dict, guards: list) -> str:
+    c = summary.get("axioms_consistent")
+    if c is False:
+        bad = [g for g in guards if g.get("consistent") is False]
+        return (f"AXIOMS CONTRADICTORY: {len(bad)} axiom set{'s' if len(bad) != 1 else ''} "
+                f"refuted on {'their' if len(bad) != 1 else 'its'} own; every Theorem "
+                f"resting on {'them' if len(bad) != 1 else 'it'} is vacuous")
+    if c is True:
+        if not guards:
+            return "axioms: none to check"
+        sizes = sorted({g["model_size"] for g in guards if g.get("model_size")})
+        how = (f"a model of size {sizes[0]}" if len(sizes) == 1 and len(guards) == 1 else
+               f"models of size {', '.join(map(str, sizes))}" if sizes else "saturated")
+        n = len(guards)
+        return (f"axioms: consistent ({n} axiom set{'s' if n != 1 else ''} checked; "
+                f"{how})")
+    pending = [g for g in guards if g.get("state") not in ("done", "failed", "cancelled")
+               and not g.get("reason")]
+    if pending:
+        return "axioms: being checked"
+    return "axioms: consistency unknown (the check found neither a refutation nor a model in its budget)"
+
+
+def report_text(view: dict) -> str:
+    s, rows = view["summary"], view["rows"]
+    out = [f"run {s['run']} of suite {s['suite']}: {s['total']} obligations "
+           f"(batch {s['batch']}{', full rerun' if s.get('full') else ''})",
+           axioms_line(s, view["guards"])]
+    w = max([len(r["key"]) for r in rows] + [10])
+    out.append("")
+    out.append(f"  {'obligation':<{w}}  {'verdict':<19} {'seconds':>8}  how")
+    for r in rows:
+        verdict = r["verdict"] or r["state"] or "?"
+        how = ("reused (" + ("proof replayed" if r["reuse"]["kind"] == "proof-replayed"
+                             else "model re-evaluated") + ")") if r["reused"] else "searched"
+        flags = []
+        if r["vacuous"]:
+            flags.append("VACUOUS: the axioms are contradictory")
+        if r["unexpected"]:
+            flags.append(f"UNEXPECTED: the manifest expects {r['expected']}")
+        out.append(f"  {r['key']:<{w}}  {verdict:<19} {_secs(r['seconds']):>8}  {how}"
+                   + ("  " + "; ".join(flags) if flags else ""))
+    out.append("")
+    out.append(f"settled {s['settled']} of {s['total']}: {s['theorems']} proved, "
+               f"{s['counter_satisfiable']} refuted, {s['undecided']} without a verdict; "
+               f"{s['unexpected']} unexpected")
+    out.append(f"reused {s['reused']}, searched {s['searched']}; time saved by reuse "
+               f"{s['time_saved_seconds']:.2f} s (replay and re-evaluation took "
+               f"{s['reuse_check_seconds']:.2f} s)")
+    return "\n".join(out)
+
+
+def diff_text(d: dict) -> str:
+    out = [f"suite {d['suite']}: run {d['a']} -> run {d['b']}"]
+    cons = d["axioms_consistent"]["b"]
+    if cons is False:
+        out.append("AXIOMS CONTRADICTORY in run " + d["b"] + ": every Theorem of it is vacuous")
+    lines = []
+    w = max([len(x["key"]) for k in ("flipped", "lost", "gained", "unexpected", "slower",
+                                     "faster", "axioms_changed", "added", "removed")
+             for x in d[k]] + [10])
+    for x in d["flipped"]:
+        lines.append(f"FLIPPED     {x['key']:<{w}}  {x['before']} -> {x['after']}")
+    for x in d["lost"]:
+        lines.append(f"lost        {x['key']:<{w}}  {x['before']} -> {x['after']}")
+    for x in d["unexpected"]:
+        lines.append(f"unexpected  {x['key']:<{w}}  {x['verdict']} (the manifest expects "
+                     f"{x['expected']})")
+    for x in d["gained"]:
+        lines.append(f"gained      {x['key']:<{w}}  {x['before'] or '(new)'} -> {x['after']}")
+    for x in d["axioms_changed"]:
+        ch = " ".join(["+" + a for a in x["added"]] + ["-" + a for a in x["removed"]])
+        lines.append(f"axioms used {x['key']:<{w}}  {ch}")
+    for k in ("slower", "faster"):
+        for x in d[k]:
+            lines.append(f"{k:<11} {x['key']:<{w}}  {x['before']:.2f} s -> {x['after']:.2f} s")
+    for x in d["added"]:
+        lines.append(f"added       {x['key']:<{w}}  {x['after']}")
+    for x in d["removed"]:
+        lines.append(f"removed     {x['key']:<{w}}  (was {x['before']})")
+    out.extend(lines or ["no changes"])
+    out.append(f"{len(d['flipped'])} flipped, {len(d['lost'])} lost, {len(d['unexpected'])} "
+               f"unexpected, {len(d['gained'])} gained, {len(d['axioms_changed'])} with other "
+               f"axioms used; run {d['b']}: {d['reused']} reused, {d['searched']} searched"
+               + ("" if d.get("finished", True) else " (a run is still going)"))
+    return "\n".join(out)
+
+
+class Bar:
+    """A one-line progress bar on stderr (only on a terminal)."""
+
+    def __init__(self, stream=None):
+        self.stream = stream or sys.stderr
+        self.on = hasattr(self.stream, "isatty") and self.stream.isatty()
+        self.drawn = False
+
+    def __call__(self, s: dict) -> None:
+        if not self.on:
+            return
+        done, total = s["done"], max(s["total"], 1)
+        width = 30
+        fill = int(width * done / total)
+        self.stream.write(f"\r[{'#' * fill}{'.' * (width - fill)}] {done}/{s['total']} "
+                          f"settled, {s['reused']} reused ")
+        self.stream.flush()
+        self.drawn = True
+
+    def close(self):
+        if self.drawn:
+            self.stream.write("\n")
+            self.stream.flush()
+
+
+def exit_code(summary: dict) -> int:
+    if (summary.get("lost") or summary.get("flipped") or summary.get("unexpected")
+            or summary.get("axioms_consistent") is False):
+        return EXIT_REGRESSION
+    if summary.get("undecided"):
+        return EXIT_UNDECIDED
+    return EXIT_OK
+
+
+def json_summary(view: dict) -> dict:
+    s = view["summary"]
+    keys = ("run", "suite", "batch", "previous", "total", "settled", "reused", "searched",
+            "gained", "lost", "flipped", "unexpected", "axioms_consistent", "vacuous",
+            "theorems", "counter_satisfiable", "undecided", "time_saved_seconds",
+            "reuse_check_seconds", "search_seconds", "finished", "full")
+    out = {k: s.get(k) for k in keys}
+    out["guards"] = view["guards"]
+    if view.get("diff"):
+        d = view["diff"]
+        out["changes"] = {k: d[k] for k in ("gained", "lost", "flipped", "unexpected",
+                                            "axioms_changed", "slower", "faster")}
+    return out
+
+
+# -- commands ----------------------------------------------------------------
+
+@_guarded
+def cmd_run(args) -> int:
+    from .corpus import SuiteError, load_suite, submission
+    try:
+        suite = load_suite(args.path)
+    except SuiteError as e:
+        print(e.render(), file=sys.stderr)
+        return EXIT_INPUT
+    body = submission(suite, full=args.full)
+    if args.time_limit:
+        body["time_limit"] = args.time_limit
+    client = _client(args)
+    first = client.post("/api/corpus/runs", body)
+    rid = first["run"]
+    if not args.wait:
+        if args.json:
+            print(json.dumps(first))
+        else:
+            print(f"run {rid} of suite {suite.name}: {first['total']} obligations submitted "
+                  f"(batch {first['batch']}); {first['reused']} reused, "
+                  f"{first['searched']} to search")
+            print(f"follow it with: nightjar status {first['batch']}")
+        return EXIT_OK
+    if not args.json:
+        print(f"run {rid} of suite {suite.name}: {first['total']} obligations, "
+              f"{first['reused']} reused, {first['searched']} to search", file=sys.stderr)
+    bar = Bar() if not args.json else Bar(stream=open("/dev/null", "w"))
+    delay = 0.05
+    try:
+        while True:
+            view = client.get(f"/api/corpus/runs/{rid}")
+            bar(view["summary"])
+            if view["summary"]["finished"]:
+                break
+            time.sleep(delay)
+            delay = min(delay * 1.5, 0.5)
+    finally:
+        bar.close()
+    if args.json:
+        for r in view["rows"]:
+            print(json.dumps({k: r[k] for k in ("key", "file", "conjecture", "job", "verdict",
+                                                "seconds", "axioms_used", "reused",
+                                                "expected", "unexpected", "vacuous")}))
+        print(json.dumps(json_summary(view)))
+    else:
+        print(report_text(view))
+        if view.get("diff"):
+            print("")
+            print(diff_text(view["diff"]))
+        elif view["summary"].get("previous") is None:
+            print("(the first run of this suite: nothing to compare with)")
+    return exit_code(view["summary"])
+
+
+@_guarded
+def cmd_diff(args) -> int:
+    from .client import ApiError
+    client = _client(args)
+    if args.runs and len(args.runs) != 2:
+        print("nightjar: corpus diff takes two runs (RUN_A RUN_B) or none", file=sys.stderr)
+        return EXIT_USAGE
+    query = {"threshold": args.threshold}
+    if args.runs:
+        query.update(a=args.runs[0], b=args.runs[1])
+    else:
+        suite = args.suite
+        if not suite:
+            names = [x["suite"] for x in client.get("/api/corpus/suites")["suites"]]
+            if len(names) != 1:
+                print("nightjar: name the suite with --suite NAME"
+                      + (f" (yours: {', '.join(names)})" if names else
+                         " (no suite has been run yet)"), file=sys.stderr)
+                return EXIT_USAGE
+            suite = names[0]
+        query["suite"] = suite
+    try:
+        d = client.get("/api/corpus/diff", **query)
+    except ApiError as e:
+        if e.status == 404:
+            print(f"nightjar: {e}", file=sys.stderr)
+            return EXIT_USAGE
+        raise
+    if args.json:
+        print(json.dumps({k: v for k, v in d.items() if k not in ("summary_a", "summary_b")}))
+    else:
+        print(diff_text(d))
+    return EXIT_REGRESSION if d["regression"] else EXIT_OK
+
+
+def register(sub) -> None:
+    p = sub.add_parser("corpus", help="run a suite of problems and compare its runs",
+                       description="Suites of problems with a manifest (suite.toml): run "
+                       "them through the service, reuse what an axiom change left "
+                       "standing, and compare runs.")
+    csub = p.add_subparsers(dest="corpus_cmd", metavar="ACTION", required=True)
+
+    r = csub.add_parser("run", help="submit a suite as one run",
+                        description="Load the suite (a folder with suite.toml, or a manifest "
+                        "file), report every problem in it at once, submit it as one run. "
+                        "Verdicts of the last run that still stand are reused: a proof "
+                        "whose axioms are unchanged and which the proof checker accepts "
+                        "again, a countermodel that still satisfies every axiom.")
+    r.add_argument("path", metavar="DIR", help="suite folder or manifest file")
+    r.add_argument("--wait", action="store_true",
+                   help="follow the run to its end and print the report")
+    r.add_argument("--full", action="store_true", help="search everything again (no reuse)")
+    r.add_argument("--json", action="store_true",
+                   help="JSON: with --wait, one line per obligation, then a summary line")
+    r.add_argument("--time-limit", type=float, metavar="SECONDS",
+                   help="seconds per obligation (default: the manifest's time_limit)")
+    r.add_argument("--server", metavar="URL", help="service address (default: NIGHTJAR_SERVER, "
+                   "else the home's embedded service)")
+    r.set_defaults(func=cmd_run)
+
+    d = csub.add_parser("diff", help="compare two runs of a suite",
+                        description="Gained, lost, flipped (Theorem <-> CounterSatisfiable), "
+                        "unexpected (against the manifest), time changes and changes in the "
+                        "axioms used. Default: the last two runs of the suite. Exit 5 when "
+                        "anything is lost, flipped or unexpected.")
+    d.add_argument("runs", nargs="*", metavar="RUN", help="RUN_A RUN_B (both, or neither)")
+    d.add_argument("--suite", metavar="NAME", help="compare this suite's last two runs")
+    d.add_argument("--json", action="store_true", help="one JSON object")
+    d.add_argument("--threshold", type=float, default=1.0, metavar="SECONDS",
+                   help="report time changes of at least this many seconds (default 1)")
+    d.add_argument("--server", metavar="URL", help="service address")
+    d.set_defaults(func=cmd_diff)
