@@ -137,13 +137,16 @@ class Corruptions:
     def flip_sign(self, proof, k):
         st = proof["steps"][k]
         lits = T.clause_from_json(st["clause"])
-        if not lits or st["rule"] == "input":
+        if not lits:
             return False
         i = self.rng.randrange(len(lits))
         flipped = (not lits[i][0], lits[i][1])
         if any(_canon(flipped) == _canon(l) for l in lits):
             return False
-        st["clause"] = T.clause_to_json(lits[:i] + (flipped,) + lits[i + 1:])
+        new = lits[:i] + (flipped,) + lits[i + 1:]
+        if st["rule"] == "input" and self._in_cnf(st, new):
+            return False       # (same symbols: only the comparison with the CNF can tell)
+        st["clause"] = T.clause_to_json(new)
         return st["id"]
 
     def fresh_binding(self, proof, k):
@@ -172,6 +175,24 @@ class Corruptions:
             return False
         st["parents"] = list(st["parents"])
         st["parents"][self.rng.randrange(len(st["parents"]))] = 10 ** 6
+        return st["id"]
+
+    def other_parent(self, proof, k):
+        """A parent replaced by another earlier step with a different clause
+        (different signs and predicate symbols)."""
+        st = proof["steps"][k]
+        if not st["parents"]:
+            return False
+        n = self.rng.randrange(len(st["parents"]))
+        byid = {s["id"]: s for s in proof["steps"]}
+        old = T.clause_from_json(byid[st["parents"][n]]["clause"])
+        key = sorted(map(repr, map(_head_sign, old)))
+        choices = [s["id"] for s in proof["steps"][:k]
+                   if sorted(map(repr, map(_head_sign, T.clause_from_json(s["clause"])))) != key]
+        if not choices:
+            return False
+        st["parents"] = list(st["parents"])
+        st["parents"][n] = self.rng.choice(choices)
         return st["id"]
 
     def other_literal(self, proof, k):
@@ -235,9 +256,14 @@ class Corruptions:
 
     def skolem_clash(self, proof, k):
         sk = proof.get("skolems") or {}
-        if not sk:
+        st = proof["steps"][k]
+        if st["rule"] != "input":
             return False
-        name = self.rng.choice(sorted(sk))
+        used = {n for _, a in T.clause_from_json(st["clause"]) for n, _ in _syms(a)}
+        names = sorted(used & set(sk))
+        if not names:
+            return False
+        name = self.rng.choice(names)
         user = self.rng.choice(sorted(self.problem.signature))
         sk[user] = sk.pop(name)
         return None
@@ -245,6 +271,19 @@ class Corruptions:
     def _in_cnf(self, st, lits):
         return any(ic.source == st["formula"] and is_variant(ic.lits, lits)
                    for ic in self.cp.clauses)
+
+
+def _syms(t):
+    out = []
+    stack = [t]
+    while stack:
+        x = stack.pop()
+        if type(x) is str:
+            out.append((x, 0))
+        elif type(x) is tuple:
+            out.append((x[0], len(x) - 1))
+            stack.extend(x[1:])
+    return out
 
 
 def _canon(lit):
@@ -255,7 +294,7 @@ def _canon(lit):
 
 
 KINDS = [m for m in dir(Corruptions) if not m.startswith("_")]
-N_CORRUPTIONS = 120
+N_CORRUPTIONS = 150
 
 
 @functools.lru_cache(maxsize=None)
@@ -299,7 +338,8 @@ def test_corrupted_engine_proofs_are_refused():
     assert len(made) == N_CORRUPTIONS
     kinds = {m[1] for m in made}
     assert kinds >= {"drop_literal", "extra_literal", "fresh_binding", "later_parent",
-                     "other_literal", "flip_conj", "other_formula"}, kinds
+                     "other_parent", "other_literal", "other_position", "other_side",
+                     "flip_conj", "other_formula", "skolem_clash"}, kinds
     missed = []
     for rel, kind, k, problem, cp, bad, expect in made:
         rep = check_proof(bad, problem, cp)
@@ -351,3 +391,23 @@ def _add_arg(t, f):
         args = tuple(_add_arg(a, f) for a in t[1:])
         return (t[0], *args, 0) if t[0] == f else (t[0], *args)
     return t
+
+
+# ------------------------------------------------------------- the other verdicts
+
+def test_unsatisfiable_and_contradictory_axioms_are_replayed_too():
+    """Unsatisfiable (no conjecture) and ContradictoryAxioms (a proof that
+    never uses the conjecture) also go through the checker."""
+    from worker.syntax import parse_text
+    text = ("axiom a1: forall x. p(x) implies q(f(x))\n"
+            "axiom a2: p(c)\n"
+            "axiom a3: forall y. not q(y)\n")
+    unsat = parse_text(text, "unsat.nj")
+    res = decide(unsat, None, V.Settings(limits=V.Limits(time=SUITE_TIME)))
+    assert res["status"] == V.UNSATISFIABLE
+    assert res["certificate"]["kind"] == "proof-replayed"
+    contra = parse_text(text + "conjecture goal: r(c)\n", "contra.nj")
+    res = decide(contra, "goal", V.Settings(limits=V.Limits(time=SUITE_TIME)))
+    assert res["status"] == V.CONTRADICTORY_AXIOMS
+    assert res["certificate"]["kind"] == "proof-replayed"
+    assert sorted(res["axioms_used"]) == ["a1", "a2", "a3"]
