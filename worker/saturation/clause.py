@@ -16,7 +16,7 @@ from worker.syntax.terms import EQ
 class Clause:
     __slots__ = ("id", "lits", "nvars", "weight", "conj", "rule", "parents",
                  "info", "alive", "active", "sel", "elig", "maxl", "key",
-                 "source", "role")
+                 "source", "role", "feat")
 
     def __init__(self, cid: int, lits: tuple, nvars: int, rule: str,
                  parents: tuple = (), info: dict | None = None,
@@ -31,6 +31,11 @@ class Clause:
         self.alive = True
         self.active = False
         self.weight = sum(_size(a) for _s, a in lits) + len(lits) - 1
+        feat: dict = {}
+        for sg, a in lits:
+            k = (sg, a if type(a) is str else a[0])
+            feat[k] = feat.get(k, 0) + 1
+        self.feat = feat       # feature vector: literal count per (sign, predicate)
         self.sel = ()          # selected literal indexes (set at activation)
         self.elig = ()         # literal indexes eligible for inferences
         self.maxl = ()         # maximal literal indexes
@@ -85,3 +90,29 @@ def normalize(lits, eq_builtin: bool = True) -> tuple[tuple, int]:
 
 def is_equation(atom) -> bool:
     return type(atom) is tuple and atom[0] == EQ
+
+
+def may_subsume(c: "Clause", d: "Clause") -> bool:
+    """Feature-vector filter: ``c`` can subsume ``d`` only if ``d`` has at
+    least as many literals of each sign and predicate."""
+    fd = d.feat
+    for k, n in c.feat.items():
+        if fd.get(k, 0) < n:
+            return False
+    return True
+
+
+def may_cut(c: "Clause", d: "Clause") -> bool:
+    """Feature-vector filter for subsumption resolution of ``d`` by ``c``:
+    all of ``c`` but one literal fits, and that literal's complement is in ``d``."""
+    fd = d.feat
+    excess = None
+    for k, n in c.feat.items():
+        m = fd.get(k, 0)
+        if m < n:
+            if excess is not None or n - m > 1:
+                return False
+            excess = k
+    if excess is None:
+        return any(fd.get((not sg, h), 0) for sg, h in c.feat)
+    return fd.get((not excess[0], excess[1]), 0) > 0

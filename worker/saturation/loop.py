@@ -23,7 +23,7 @@ import time
 from worker.syntax.terms import EQ, apply, rename, subterms
 
 from . import rules as R
-from .clause import Clause, is_equation, normalize
+from .clause import Clause, may_cut, may_subsume, normalize
 from .index import FingerprintIndex, LinearIndex
 from .kbo import KBO
 from .strategy import Strategy
@@ -355,7 +355,7 @@ class Saturation:
                 if d.id in seen or len(d.lits) > n:
                     continue
                 seen.add(d.id)
-                if R.subsumes(d.lits, c.lits, self.eq) is not None:
+                if may_subsume(d, c) and R.subsumes(d.lits, c.lits, self.eq) is not None:
                     return True
         return False
 
@@ -370,6 +370,8 @@ class Saturation:
                     if d.id in seen or len(d.lits) > n:
                         continue
                     seen.add(d.id)
+                    if not may_cut(d, c):
+                        continue
                     found = R.find_subsumption_resolution(d.lits, c.lits, self.eq)
                     if found is not None:
                         i, j, m = found
@@ -437,7 +439,7 @@ class Saturation:
             self.check()
             if d is g or not d.alive or not d.active or len(d.lits) < len(lits):
                 continue
-            if R.subsumes(lits, d.lits, self.eq) is not None:
+            if may_subsume(g, d) and R.subsumes(lits, d.lits, self.eq) is not None:
                 self.kill(d)
                 self.fig["backward_deleted"] += 1
 

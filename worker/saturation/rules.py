@@ -208,51 +208,78 @@ def is_tautology(lits, eq_builtin: bool = True) -> bool:
     return not pos.isdisjoint(neg)
 
 
-def _lit_matches(pl, tl, s, eq_builtin):
-    """Yield extensions of matcher ``s`` taking literal ``pl`` onto ``tl``
-    (both orientations of an equation)."""
+def _lit_matchers(pl, tl, eq_builtin):
+    """The matchers taking literal ``pl`` onto ``tl`` (both orientations of
+    an equation), as a list."""
     if pl[0] != tl[0]:
-        return
+        return []
     pa, ta = pl[1], tl[1]
-    s1 = dict(s)
+    if type(pa) is not type(ta):
+        if type(pa) is not int:
+            return []
+    if type(pa) is tuple and type(ta) is tuple and (pa[0] != ta[0] or len(pa) != len(ta)):
+        return []
+    out = []
+    s1: dict = {}
     if match(pa, ta, s1):
-        yield s1
-    if (eq_builtin and type(pa) is tuple and pa[0] == EQ and type(ta) is tuple
-            and ta[0] == EQ):
-        s2 = dict(s)
-        if match(pa[1], ta[2], s2) and match(pa[2], ta[1], s2):
-            if s2 != s1:
-                yield s2
+        out.append(s1)
+    if eq_builtin and type(pa) is tuple and pa[0] == EQ:
+        s2: dict = {}
+        if match(pa[1], ta[2], s2) and match(pa[2], ta[1], s2) and s2 != s1:
+            out.append(s2)
+    return out
 
 
-def subsumes(c_lits, d_lits, eq_builtin: bool = True, s: dict | None = None,
-             exclude: int = -1):
-    """Subsumption: a matcher ``m`` with ``m(C)`` a sub-multiset of ``D``
-    (each literal of ``C`` onto a different literal of ``D``, ``D``'s literal
-    ``exclude`` not used), or None."""
-    if len(c_lits) > len(d_lits) - (1 if exclude >= 0 else 0):
-        return None
-    order = sorted(range(len(c_lits)), key=lambda k: -_size(c_lits[k][1]))
-    used = [False] * len(d_lits)
-    if exclude >= 0:
-        used[exclude] = True
+def _merge(s: dict, m: dict):
+    s2 = dict(s)
+    for v, t in m.items():
+        x = s2.get(v)
+        if x is None:
+            s2[v] = t
+        elif x != t:
+            return None
+    return s2
+
+
+def _search(table, s: dict, used: list):
+    """Backtracking over the per-literal candidate lists ``table`` (each a
+    list of ``(d_index, matcher)``): one matcher per row, pairwise
+    compatible, each on a different unused ``d_index``."""
+    order = sorted(range(len(table)), key=lambda k: len(table[k]))
 
     def go(k, s):
         if k == len(order):
             return s
-        pl = c_lits[order[k]]
-        for idx, tl in enumerate(d_lits):
-            if used[idx]:
+        for j, m in table[order[k]]:
+            if used[j]:
                 continue
-            for s2 in _lit_matches(pl, tl, s, eq_builtin):
-                used[idx] = True
-                r = go(k + 1, s2)
-                used[idx] = False
-                if r is not None:
-                    return r
+            s2 = _merge(s, m)
+            if s2 is None:
+                continue
+            used[j] = True
+            r = go(k + 1, s2)
+            used[j] = False
+            if r is not None:
+                return r
         return None
 
-    return go(0, dict(s or {}))
+    return go(0, s)
+
+
+def subsumes(c_lits, d_lits, eq_builtin: bool = True):
+    """Subsumption: a matcher ``m`` with ``m(C)`` a sub-multiset of ``D``
+    (each literal of ``C`` onto a different literal of ``D``), or None.
+    Variables of ``D`` count as constants."""
+    if len(c_lits) > len(d_lits):
+        return None
+    table = []
+    for pl in c_lits:
+        row = [(j, m) for j, tl in enumerate(d_lits)
+               for m in _lit_matchers(pl, tl, eq_builtin)]
+        if not row:
+            return None
+        table.append(row)
+    return _search(table, {}, [False] * len(d_lits))
 
 
 def find_subsumption_resolution(c_lits, d_lits, eq_builtin: bool = True):
@@ -260,14 +287,29 @@ def find_subsumption_resolution(c_lits, d_lits, eq_builtin: bool = True):
     ``m(C - c_i)`` is a sub-multiset of ``D - d_j``, or None."""
     if len(c_lits) > len(d_lits):
         return None
-    for i, (sg, at) in enumerate(c_lits):
-        flipped = (not sg, at)
-        rest = c_lits[:i] + c_lits[i + 1:]
-        for j, tl in enumerate(d_lits):
-            for s in _lit_matches(flipped, tl, {}, eq_builtin):
-                m = subsumes(rest, d_lits, eq_builtin, s, exclude=j)
-                if m is not None:
-                    return i, j, m
+    straight = []
+    flipped = []
+    for pl in c_lits:
+        straight.append([(j, m) for j, tl in enumerate(d_lits)
+                         for m in _lit_matchers(pl, tl, eq_builtin)])
+        fl = (not pl[0], pl[1])
+        flipped.append([(j, m) for j, tl in enumerate(d_lits)
+                        for m in _lit_matchers(fl, tl, eq_builtin)])
+    empty = [k for k, row in enumerate(straight) if not row]
+    if len(empty) > 1:
+        return None
+    cands = empty if empty else range(len(c_lits))
+    for i in cands:
+        for j, m in flipped[i]:
+            rest = [[(jj, mm) for jj, mm in straight[k] if jj != j]
+                    for k in range(len(c_lits)) if k != i]
+            if any(not row for row in rest):
+                continue
+            used = [False] * len(d_lits)
+            used[j] = True
+            r = _search(rest, dict(m), used)
+            if r is not None:
+                return i, j, r
     return None
 
 
