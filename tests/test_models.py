@@ -196,32 +196,35 @@ def test_clause_budget_gives_up_cleanly():
     cp = _cp([lits, [(False, ("=", "a", "b"))]],
              [("p", "predicate", 3), ("q", "predicate", 3),
               ("a", "function", 0), ("b", "function", 0)])
-    s = ModelSearch(cp, max_size=8, max_clauses=20_000)
+    s = ModelSearch(cp, max_size=8, max_clauses=20_000, split=False)
     m = s.run()
     # size 1 has no model (a != b); size 2 has one
     assert m is not None and m["size"] == 2 and s.sizes_excluded == [1]
     while s.run() is not None:
         pass
-    assert s.done and not s.exhausted
+    assert s.done and not s.exhausted and s.current_size < 8
     assert "skipped" in s.reason and "20,000" in s.reason
 
 
 def test_deadline_during_grounding_and_resume():
-    # 7 variables: 8^7 = 2,097,152 instances at size 8, seconds of grounding
-    lits = [(True, ("p", 0, 1, 2, 3)), (True, ("q", 4, 5, 6))]
-    cp = _cp([lits, [(False, ("q", "a", "a", "a"))]],
-             [("p", "predicate", 4), ("q", "predicate", 3), ("a", "function", 0)])
-    s = ModelSearch(cp, min_size=8, max_size=8, max_clauses=10_000_000)
+    # 6 variables: 8^6 = 262,144 instances at size 8, a good part of a second
+    lits = [(True, ("p", 0, 1, 2, 3)), (True, ("q", 4, 5))]
+    cp = _cp([lits, [(False, ("q", "a", "a"))]],
+             [("p", "predicate", 4), ("q", "predicate", 2), ("a", "function", 0)])
+    s = ModelSearch(cp, min_size=8, max_size=8, split=False)
     t0 = time.monotonic()
-    assert s.run(t0 + 0.2) is None
-    assert time.monotonic() - t0 < 2.0           # promptly, not after the whole grounding
-    assert not s.done and s.current_size <= 8
-    model = None
-    for _ in range(200):
-        model = s.run(time.monotonic() + 0.5)
-        if model is not None or s.done:
-            break
+    assert s.run(t0 + 0.02) is None
+    assert time.monotonic() - t0 < 0.5           # promptly, not after the whole grounding
+    assert not s.done and s.current_size <= 8 and "grounding" in s.reason
+    slices, model = 1, None
+    while model is None and not s.done and slices < 500:
+        model = s.run(time.monotonic() + 0.02)
+        slices += 1
+    assert slices > 2                              # it took several slices
     assert model is not None and model["size"] == 8
+    # resuming lost no instance: q(a, a) is false, so p holds everywhere
+    p_values = [v for _a, v in model["predicates"]["p"]["values"]]
+    assert len(p_values) == 8 ** 4 and all(p_values)
 
 
 @pytest.mark.parametrize("solver", ["cadical195", "minisat22"])
@@ -269,3 +272,113 @@ def test_display_predicates():
     lt_rows = [l.split("|")[1].split() for l in text.splitlines()
                if "|" in l and l.split("|")[0].strip() in ("0", "1")]
     assert lt_rows == [["F", "T"], ["F", "F"]]
+
+
+# ------------------------------------------------------------------ against brute force
+
+def _random_clauses(rng, funs, preds):
+    def term(d):
+        if d == 0 or rng.random() < 0.4:
+            if rng.random() < 0.6:
+                return rng.randrange(3)
+            consts = [f for f, k in funs.items() if k == 0]
+            return rng.choice(consts) if consts else rng.randrange(3)
+        f = rng.choice([f for f, k in funs.items() if k > 0])
+        return (f, *[term(d - 1) for _ in range(funs[f])])
+
+    def atom():
+        if rng.random() < 0.4:
+            return ("=", term(2), term(2))
+        p = rng.choice(list(preds))
+        return (p, *[term(1) for _ in range(preds[p])])
+
+    return [[(rng.random() < 0.5, atom()) for _ in range(rng.randint(1, 3))]
+            for _ in range(rng.randint(1, 4))]
+
+
+def _brute_force_has_model(clauses, funs, preds, n):
+    """Is there an interpretation of size n satisfying the clauses? (Every
+    interpretation tried: an independent reference for the SAT encoding and
+    its symmetry breaking.)"""
+    cells = [(f, args) for f, k in sorted(funs.items()) for args in itertools.product(range(n), repeat=k)]
+    pcells = [(p, args) for p, k in sorted(preds.items()) for args in itertools.product(range(n), repeat=k)]
+    nvars = [1 + max([v for lit in c for v in _vars(lit[1])], default=-1) for c in clauses]
+    for fv in itertools.product(range(n), repeat=len(cells)):
+        F = dict(zip(cells, fv))
+        for pv in itertools.product((False, True), repeat=len(pcells)):
+            P = dict(zip(pcells, pv))
+
+            def ev(t, env):
+                if type(t) is int:
+                    return env[t]
+                if type(t) is str:
+                    return F[t, ()]
+                return F[t[0], tuple(ev(a, env) for a in t[1:])]
+
+            def lit_true(lit, env):
+                sign, a = lit
+                if a[0] == "=":
+                    val = ev(a[1], env) == ev(a[2], env)
+                else:
+                    val = P[a[0], tuple(ev(x, env) for x in a[1:])]
+                return val == sign
+
+            if all(any(lit_true(l, env) for l in c)
+                   for c, k in zip(clauses, nvars)
+                   for env in itertools.product(range(n), repeat=k)):
+                return True
+    return False
+
+
+def _vars(t):
+    if type(t) is int:
+        return [t]
+    if type(t) is tuple:
+        return [v for a in t[1:] for v in _vars(a)]
+    return []
+
+
+@pytest.mark.parametrize("seed", range(40))
+def test_search_agrees_with_brute_force(seed):
+    import random
+    rng = random.Random(seed)
+    if seed % 2:
+        funs, preds, n = {"a": 0, "b": 0, "f": 1, "g": 2}, {"p": 1}, 2
+    elif seed % 4:
+        funs, preds, n = {"a": 0, "f": 1}, {"p": 1, "q": 2}, 2
+    else:
+        funs, preds, n = {"a": 0, "b": 0, "f": 1}, {"p": 1}, 3
+    clauses = _random_clauses(rng, funs, preds)
+    sig = [(f, "function", k) for f, k in funs.items()] + [(p, "predicate", k) for p, k in preds.items()]
+    cp = _cp(clauses, sig)
+    expected = _brute_force_has_model(clauses, funs, preds, n)
+    unsplit = ModelSearch(cp, min_size=n, max_size=n, split=False).run()
+    assert (unsplit is not None) == expected, clauses
+    s = ModelSearch(cp, min_size=n, max_size=n)
+    model = s.run()
+    assert (model is not None) == expected, clauses
+    if model is not None:
+        # the model satisfies the clauses (checked here, not by the search)
+        F = {(f, tuple(a)): v for f, t in model["functions"].items() for a, v in t["values"]}
+        P = {(p, tuple(a)): v for p, t in model["predicates"].items() for a, v in t["values"]}
+        assert set(model["predicates"]) == set(preds)
+        assert _brute_force_single(clauses, F, P, n)
+    else:
+        assert s.exhausted and s.sizes_excluded == [n]
+
+
+def _brute_force_single(clauses, F, P, n):
+    def ev(t, env):
+        if type(t) is int:
+            return env[t]
+        if type(t) is str:
+            return F[t, ()]
+        return F[t[0], tuple(ev(a, env) for a in t[1:])]
+
+    for c in clauses:
+        k = 1 + max([v for lit in c for v in _vars(lit[1])], default=-1)
+        for env in itertools.product(range(n), repeat=k):
+            if not any((ev(a[1], env) == ev(a[2], env) if a[0] == "=" else
+                        P[a[0], tuple(ev(x, env) for x in a[1:])]) == sign for sign, a in c):
+                return False
+    return True

@@ -149,3 +149,68 @@ def flatten_clauses(clauses) -> list:
         if fc is not None:
             out.append(fc)
     return out
+
+
+# ------------------------------------------------------------------ splitting
+
+def _lit_vars(lit):
+    if lit[0] == "eq":
+        return {lit[1], lit[2]}
+    if lit[0] == "pred":
+        return set(lit[3])
+    return set(lit[3]) | {lit[4]}
+
+
+def _renumber(lits, source):
+    mapping: dict = {}
+
+    def v(x):
+        r = mapping.get(x)
+        if r is None:
+            r = mapping[x] = len(mapping)
+        return r
+
+    out = []
+    for lit in lits:
+        if lit[0] == "eq":
+            a, b = v(lit[1]), v(lit[2])
+            out.append(("eq", min(a, b), max(a, b)))
+        elif lit[0] == "pred":
+            out.append(("pred", lit[1], lit[2], tuple(v(x) for x in lit[3])))
+        else:
+            out.append(("fun", lit[1], lit[2], tuple(v(x) for x in lit[3]), v(lit[4])))
+    return FlatClause(tuple(out), len(mapping), source)
+
+
+def split_clause(fc: FlatClause, n: int, new_name, keep_vars: int = 4) -> list:
+    """Split a flat clause with many variables into clauses with fewer, joined
+    by fresh predicates: ``A or B`` becomes ``A or s(v)`` and ``~s(v) or B``
+    where ``v`` are the variables ``A`` and ``B`` share (satisfiability is
+    kept: read ``s(v)`` as "B holds for every value of B's other
+    variables").  The bipartition with the fewest ground instances at size
+    ``n`` is taken when it at least halves them; the parts are split again.
+    ``new_name(arity)`` gives the fresh predicate's name."""
+    k = fc.nvars
+    m = len(fc.lits)
+    if k <= keep_vars or m < 2 or m > 12:
+        return [fc]
+    vs = [_lit_vars(l) for l in fc.lits]
+    best = None
+    for mask in range(1, 1 << (m - 1)):      # literal m-1 always in B
+        va, vb = set(), set()
+        for i in range(m):
+            (va if mask >> i & 1 else vb).update(vs[i])
+        cost = n ** len(va) + n ** len(vb)
+        if best is None or cost < best[0]:
+            best = (cost, mask, va & vb)
+    cost, mask, shared = best
+    if cost * 2 > n ** k:
+        return [fc]
+    shared = tuple(sorted(shared))
+    s = new_name(len(shared))
+    a = [l for i, l in enumerate(fc.lits) if mask >> i & 1] + [("pred", True, s, shared)]
+    b = [("pred", False, s, shared)] + [l for i, l in enumerate(fc.lits) if not mask >> i & 1]
+    out = []
+    for part in (a, b):
+        out += split_clause(_renumber(part, fc.source), n, new_name, keep_vars)
+    return out

@@ -15,11 +15,11 @@ import time
 from pysat.solvers import Solver
 
 from .encode import Encoding
-from .flatten import flatten_clauses
+from .flatten import flatten_clauses, split_clause
 
 # The solver was picked by measurement: benchmarks/models_bench.py, recorded
 # in DEVELOPERS.md "Finite model search".
-DEFAULT_SOLVER = "cadical195"
+DEFAULT_SOLVER = "minisat22"
 # Solvers whose interrupt() works from another thread; the others are run in
 # slices of a conflict budget with the clock checked between slices.
 _INTERRUPTIBLE = {"glucose3", "glucose4", "glucose42", "minisat22", "maplechrono",
@@ -116,7 +116,8 @@ class ModelSearch:
     """Resumable search for a finite model of a clause set."""
 
     def __init__(self, cp, max_size: int = 8, min_size: int = 1,
-                 max_clauses: int = 5_000_000, solver: str = DEFAULT_SOLVER):
+                 max_clauses: int = 5_000_000, solver: str = DEFAULT_SOLVER,
+                 split: bool = True):
         self.cp = cp
         self.max_size = max_size
         self.min_size = max(1, min_size)
@@ -124,12 +125,17 @@ class ModelSearch:
         self.solver_name = solver
         self.exhausted = False
         self.done = False               # nothing left to search (exhausted or gave up)
+        self.models_found = 0
         self.sizes_excluded: list = []
         self.current_size = 1
         self.reason = ""
-        self.figures = {"clauses": 0, "seconds": {}}
+        self.figures = {"clauses": 0, "seconds": {}, "ground_seconds": 0.0,
+                        "solve_seconds": 0.0}
         self._funs, self._preds = _symbols(cp)
         self._flat = flatten_clauses(cp.clauses)
+        self._internal = set()          # split predicates: not part of the model
+        if split:
+            self._flat = self._split(self._flat)
         self._enc = None
         self._sat = None
         self._phase = "grow"            # grow -> solve -> (next size) grow ...
@@ -137,6 +143,17 @@ class ModelSearch:
         self._start = 0
         self._size_clauses_added = False
         self._clock_base = {}
+
+    def _split(self, flat):
+        def new_name(arity):
+            name = f"$split{len(self._internal) + 1}"
+            self._internal.add(name)
+            self._preds[name] = arity
+            return name
+        out = []
+        for fc in flat:
+            out += split_clause(fc, self.max_size, new_name)
+        return out
 
     # -------------------------------------------------------------- driving
     def run(self, deadline: float | None = None):
@@ -159,13 +176,17 @@ class ModelSearch:
                     return None
                 self._phase = "solve" if n >= self.min_size else "next"
             if self._phase == "solve":
+                t1 = time.monotonic()
+                self.figures["ground_seconds"] += t1 - t0
                 r = sat.solve([enc.selector(n)], deadline)
+                self.figures["solve_seconds"] += time.monotonic() - t1
                 self._spent(n, t0)
                 if r is None:
                     self.reason = f"size {n}: time slice ended while solving"
                     return None
                 if r:
                     model = self._extract(n)
+                    self.models_found += 1
                     self._next_size(n, excluded=False)
                     self.reason = f"model of size {n} found"
                     return model
@@ -173,7 +194,7 @@ class ModelSearch:
                 self._phase = "next"
             if self._phase == "next":
                 self._next_size(n, excluded=n >= self.min_size)
-        self.exhausted = True
+        self.exhausted = not self.models_found
         self.done = True
         self.reason = (f"no model of size {self.min_size} to {self.max_size}"
                        if self.min_size < self.max_size else
@@ -247,6 +268,8 @@ class ModelSearch:
                 values.append([list(args), v])
             funs[f] = {"arity": k, "values": values}
         for p, k in enc.predicates.items():
+            if p in self._internal:
+                continue
             values = [[list(args), enc.pvar(p, enc.idx(args)) in true]
                       for args in _tuples(k, n)]
             preds[p] = {"arity": k, "values": values}
