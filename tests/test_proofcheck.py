@@ -557,3 +557,107 @@ def test_equality_axiom_kinds():
     assert equality_axiom_kind([e(False, 0, 1), e(True, ("f", 0), ("f", 1))], ar) is None  # arity
     assert equality_axiom_kind([e(False, 0, 1), (True, ("p", 1)), (True, ("p", 0))], ar) is None
     assert equality_axiom_kind([e(False, 0, 1), (False, ("p", 1)), (True, ("p", 1))], ar) is None
+
+
+# ------------------------------------------------------------- the small-model spot check
+# These feed the checker a clausified problem with a wrong clause in it (as a
+# clausifier bug would): the symbols are right and the clause is "in the
+# normal form", so only the evaluation in small models can tell.
+
+def test_spot_check_refuses_a_clause_that_does_not_follow():
+    pr, cp, pf = case_resolution()
+    # a2 is "not p(c)"; pretend the clausifier produced "p(c)" for it
+    cp.clauses[1] = InputClause(((True, ("p", "c")),), "a2", "axiom", False)
+    bad = copy.deepcopy(pf)
+    _find(bad, 2)["clause"] = [pos(["p", "c"])]
+    rep = check_proof(bad, pr, cp)
+    assert not rep.ok and rep.failing_step == 2
+    assert "does not follow from a2" in rep.detail and "domain of 1" in rep.detail
+
+
+def test_spot_check_refuses_an_unnegated_conjecture():
+    pr, cp, pf = case_resolution()
+    cp.clauses[2] = InputClause(((True, ("q", "c")),), "goal", "conjecture", True)
+    bad = copy.deepcopy(pf)
+    _find(bad, 3)["clause"] = [pos(["q", "c"])]
+    rep = check_proof(bad, pr, cp)
+    assert not rep.ok and rep.failing_step == 3 and "does not follow from goal" in rep.detail
+
+
+def test_spot_check_on_two_elements_catches_a_wrong_quantifier():
+    """(forall x. p(x) or q(x)) and (q(c) or not q(c)) clausified as
+    p(X0) or q(c): true on one element, false on two (p = {1}, q = {0},
+    c = 1, x = 0).  The tautology only puts c into the statement's symbols."""
+    pr, cp, pf = case_resolution()
+    wrong = ((True, ("p", 0)), (True, ("q", "c")))
+    cp.clauses[0] = InputClause(wrong, "a1", "axiom", False)
+    bad = copy.deepcopy(pf)
+    _find(bad, 1)["clause"] = [pos(P0), pos(["q", "c"])]
+    pr.statements[0] = Statement("a1", "axiom", And((
+        forall([0], Or((A("p", 0), A("q", 0)))), Or((A("q", "c"), Not(A("q", "c")))))))
+    rep = check_proof(bad, pr, cp)
+    assert not rep.ok and rep.failing_step == 1
+    assert "domain of 2" in rep.detail, rep.detail
+
+
+def test_spot_check_accepts_skolem_clauses_it_cannot_judge_on_two_elements():
+    """exists x. p(x) and exists y. not p(y): p(sk1) and not p(sk2) are
+    right, though false for some choices of sk1, sk2 on two elements; the
+    check only uses one element for clauses with Skolem symbols."""
+    f = And((Quant("exists", (0,), A("p", 0)), Quant("exists", (1,), Not(A("p", 1)))))
+    pr = problem([("a1", "axiom", f), ("a2", "axiom", forall([0], A("p", 0)))],
+                 preds=["p/1"])
+    cp = cnf(None, [("a1", "axiom", False, [pos(["p", "sk1"])]),
+                    ("a1", "axiom", False, [neg(["p", "sk2"])]),
+                    ("a2", "axiom", False, [pos(P0)])])
+    pf = proof([inp(1, "a1", [neg(["p", "sk2"])]),
+                inp(2, "a2", [pos(P0)]),
+                step(3, "resolution", [1, 2], [], lits=[0, 0], offsets=[0, 0],
+                     subst={"0": "sk2"})],
+               None, ["a1", "a2"],
+               skolems={"sk1": {"arity": 0, "statement": "a1"},
+                        "sk2": {"arity": 0, "statement": "a1"}})
+    rep = check_proof(pf, pr, cp)
+    assert rep.ok, rep.detail
+
+
+def test_small_model_evaluation():
+    from worker.certify.spotcheck import clause_holds, holds, models
+    f = forall([0], Quant("exists", (1,), A("r", 0, 1)))
+    interp = {"r": {(0, 0): False, (0, 1): True, (1, 0): False, (1, 1): False}}
+    assert not holds(f, interp, {}, 2)
+    interp["r"][(1, 0)] = True
+    assert holds(f, interp, {}, 2)
+    # forall x exists y r(x, y) on two elements: each of the two rows of r
+    # must be one of the 3 non-empty rows, so 3 * 3 = 9 of the 16 relations
+    # (counted by hand).
+    assert len(models(f, {"r": ("predicate", 2)}, 2)) == 9
+    assert clause_holds(((True, ("r", 0, 0)), (False, ("r", 0, 0))), interp, 2)
+    assert not clause_holds(((True, ("r", 0, 1)),), interp, 2)
+
+
+def test_every_clause_of_the_corpus_passes_the_input_checks():
+    """Every clause the clausifier produces for our suites (corpus/checks,
+    each file's source in its header) passes the input-step checks,
+    the small-model spot check included, so no correct proof is refused at
+    an input step."""
+    import glob
+    import os
+    clausify = pytest.importorskip("worker.clausify").clausify
+    from worker.certify.proofcheck import check_input_clauses
+    from worker.syntax import load_problem
+    root = os.path.join(os.path.dirname(os.path.dirname(os.path.abspath(__file__))),
+                        "corpus", "checks")
+    files = [f for f in sorted(glob.glob(os.path.join(root, "*", "*.p")) +
+                               glob.glob(os.path.join(root, "*", "*.nj")))
+             if os.path.basename(f) != "axioms.nj"]
+    assert len(files) >= 70
+    total = 0
+    for f in files:
+        pr = load_problem(f)
+        for conj in pr.obligations():
+            cp = clausify(pr, conj)
+            rep = check_input_clauses(pr, cp)
+            assert rep.ok, (f, conj, rep.detail)
+            total += rep.checked
+    assert total >= 500

@@ -37,6 +37,7 @@ from ..syntax import terms as T
 from ..syntax.formulas import (And, Atom, Const, Iff, Implies, Not, Or, Quant,
                                CONJECTURE, NEGATED_CONJECTURE)
 from ..syntax.printer import format_clause, format_term
+from . import spotcheck
 from .report import CheckReport
 
 EQ = T.EQ
@@ -44,6 +45,11 @@ EQ = T.EQ
 # How much work the variant test may spend on one pair of clauses before it
 # gives up (and refuses: a refusal is never unsound, only unhelpful).
 VARIANT_BUDGET = 200_000
+
+# Input clauses are also evaluated in the small models of their statement
+# (worker/certify/spotcheck.py); the benchmark switches this off to measure
+# the replay alone.
+SPOT_CHECK = True
 
 
 class Refused(Exception):
@@ -623,6 +629,7 @@ class _Checker:
         self._stmts = {st.name: st for st in problem.statements}
         self._stmt_syms: dict = {}
         self._cp_by_source: dict = {}
+        self._spot = spotcheck.SpotChecker()
         for ic in cp.clauses:
             self._cp_by_source.setdefault(ic.source, []).append(ic)
 
@@ -787,8 +794,56 @@ class _Checker:
         else:
             raise Refused(f"{_show(clause)} is not a clause of the normal form of "
                           f"{name}", sid)
+        self._spot_check(st, clause, sid)
         if not want_conj:
             self.inputs_used.add(name)
+
+    def _spot_check(self, st, clause, sid):
+        """The clause holds in every small model of its statement (see
+        :mod:`worker.certify.spotcheck`); clauses with definition symbols
+        are not spot-checked."""
+        if not SPOT_CHECK:
+            return
+        intro = [self.introduced[n] for n, _ in _clause_syms(clause) if n in self.introduced]
+        if any(kind == "predicate" for kind, _, _ in intro):
+            return
+        formula = Not(st.formula) if st.role == CONJECTURE else st.formula
+        sig = spotcheck.formula_signature(formula)
+        for n, (kind, arity, owner) in self.introduced.items():
+            if owner == st.name and kind == "function":
+                sig[n] = (kind, arity)      # one table only on one element
+        sizes = (1,) if intro else (1, 2)
+        for size in sizes:
+            sym = sig if size == 1 else {n: v for n, v in sig.items()
+                                         if n not in self.introduced}
+            bad = self._spot.counterexample(st.name, formula, sym, clause, size)
+            if bad is not None:
+                raise Refused(f"{_show(clause)} does not follow from {st.name}: "
+                              f"it is false in a model of {st.name} ({bad})", sid)
+
+
+def check_input_clauses(problem, cp) -> CheckReport:
+    """Run the input-step checks on every clause of ``cp`` (as if each were
+    used by a proof): for testing the clausification against the checker.
+    ``failing_step`` is the index in ``cp.clauses``."""
+    decl = {"steps": [], "conjecture": cp.conjecture, "axioms_used": [],
+            "skolems": {n: {"arity": s.arity, "statement": s.statement}
+                        for n, s in (cp.skolems or {}).items()},
+            "definitions": {n: {"arity": d.arity, "statement": d.statement}
+                            for n, d in (cp.definitions or {}).items()}}
+    checker = _Checker(decl, problem, cp)
+    try:
+        checker._introduced()
+    except Refused as r:
+        return CheckReport(False, 0, r.detail, None)
+    for k, ic in enumerate(cp.clauses):
+        st = {"id": k, "rule": "input", "formula": ic.source, "role": ic.role,
+              "conj": bool(ic.conj), "clause": T.clause_to_json(ic.lits), "parents": []}
+        try:
+            checker._input(st, k, ic.lits)
+        except Refused as r:
+            return CheckReport(False, k, r.detail, k)
+    return CheckReport(True, len(cp.clauses), f"{len(cp.clauses)} input clauses checked")
 
 
 def check_proof(proof: dict, problem, cp) -> CheckReport:

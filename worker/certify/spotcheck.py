@@ -1,0 +1,243 @@
+"""A semantic spot check of input clauses on tiny domains.
+
+The proof checker accepts an input clause when it is one the clausification
+produced for its statement (and its symbols are the statement's or fresh).
+This adds a check that does not trust the clausifier at all: an input clause
+``C`` of statement ``F`` (``F`` negated for the obligation's conjecture) must
+hold in every model of ``F`` on a one-element domain, and, when ``C`` has no
+Skolem symbol and the signature is small, in every model of ``F`` on a
+two-element domain.
+
+Why this is sound (a correct clausification always passes):
+
+* a clause without definition symbols that clausification derives from ``F``
+  is implied by ``F`` once the Skolem symbols are interpreted by witnesses;
+  on a one-element domain the witness is the only element, so ``F`` implies
+  ``C`` there whatever the Skolem symbols are;
+* without Skolem symbols, ``F`` implies ``C`` outright, on every domain.
+
+Clauses with definition symbols are not spot-checked (a definition predicate
+is only constrained by the other clauses of its statement). A failure gives
+the interpretation, so the refusal explains itself.
+"""
+
+from __future__ import annotations
+
+import itertools
+
+from ..syntax.formulas import And, Atom, Const, Iff, Implies, Not, Or, Quant
+from ..syntax.terms import EQ
+
+# Interpretations enumerated per statement at most; beyond that the size is
+# skipped (the check is a spot check, not a decision procedure).
+MAX_INTERPRETATIONS = {1: 1024, 2: 64}
+
+
+class _Skip(Exception):
+    pass
+
+
+def _eval_term(t, interp, env):
+    tt = type(t)
+    if tt is int:
+        return env[t]
+    if tt is str:
+        return interp[t][()]
+    return interp[t[0]][tuple(_eval_term(a, interp, env) for a in t[1:])]
+
+
+def _eval_atom(a, interp, env) -> bool:
+    if type(a) is str:
+        return interp[a][()]
+    if a[0] == EQ and len(a) == 3:
+        return _eval_term(a[1], interp, env) == _eval_term(a[2], interp, env)
+    return interp[a[0]][tuple(_eval_term(x, interp, env) for x in a[1:])]
+
+
+def holds(f, interp, env, size) -> bool:
+    """Truth of formula ``f`` in the interpretation (symbol -> table from
+    argument tuples to a value) under the variable assignment ``env``."""
+    if isinstance(f, Atom):
+        return _eval_atom(f.term, interp, env)
+    if isinstance(f, Not):
+        return not holds(f.arg, interp, env, size)
+    if isinstance(f, And):
+        return all(holds(x, interp, env, size) for x in f.args)
+    if isinstance(f, Or):
+        return any(holds(x, interp, env, size) for x in f.args)
+    if isinstance(f, Implies):
+        return (not holds(f.left, interp, env, size)) or holds(f.right, interp, env, size)
+    if isinstance(f, Iff):
+        return holds(f.left, interp, env, size) == holds(f.right, interp, env, size)
+    if isinstance(f, Const):
+        return f.value
+    if isinstance(f, Quant):
+        want = f.kind == "forall"      # forall: stop at the first False
+        saved = {v: env[v] for v in f.vars if v in env}
+        try:
+            for values in itertools.product(range(size), repeat=len(f.vars)):
+                env.update(zip(f.vars, values))
+                if holds(f.body, interp, env, size) != want:
+                    return not want
+            return want
+        finally:
+            for v in f.vars:
+                env.pop(v, None)
+            env.update(saved)
+    raise TypeError(f"not a formula: {f!r}")
+
+
+def _free_vars(f, bound=frozenset(), acc=None) -> set:
+    if acc is None:
+        acc = set()
+    if isinstance(f, Atom):
+        stack = [f.term]
+        while stack:
+            x = stack.pop()
+            if type(x) is int:
+                if x not in bound:
+                    acc.add(x)
+            elif type(x) is tuple:
+                stack.extend(x[1:])
+    elif isinstance(f, Not):
+        _free_vars(f.arg, bound, acc)
+    elif isinstance(f, (And, Or)):
+        for x in f.args:
+            _free_vars(x, bound, acc)
+    elif isinstance(f, (Implies, Iff)):
+        _free_vars(f.left, bound, acc)
+        _free_vars(f.right, bound, acc)
+    elif isinstance(f, Quant):
+        _free_vars(f.body, bound | set(f.vars), acc)
+    return acc
+
+
+def _tables(arity: int, size: int, values):
+    """Every table from ``size**arity`` argument tuples to ``values``."""
+    keys = list(itertools.product(range(size), repeat=arity))
+    for vals in itertools.product(values, repeat=len(keys)):
+        yield dict(zip(keys, vals))
+
+
+def models(formula, symbols: dict, size: int):
+    """Every interpretation of ``symbols`` (name -> (kind, arity)) on a
+    domain of ``size`` elements in which the closed ``formula`` holds; raises
+    _Skip when there are more than MAX_INTERPRETATIONS[size] to try."""
+    free = _free_vars(formula)
+    if free:
+        formula = Quant("forall", tuple(sorted(free)), formula)
+    names = sorted(symbols)
+    count = 1
+    for n in names:
+        kind, arity = symbols[n]
+        nvals = 2 if kind == "predicate" else size
+        count *= nvals ** (size ** arity)
+        if count > MAX_INTERPRETATIONS[size]:
+            raise _Skip()
+    choices = []
+    for n in names:
+        kind, arity = symbols[n]
+        values = (False, True) if kind == "predicate" else tuple(range(size))
+        choices.append(list(_tables(arity, size, values)))
+    out = []
+    for combo in itertools.product(*choices):
+        interp = dict(zip(names, combo))
+        if holds(formula, interp, {}, size):
+            out.append(interp)
+    return out
+
+
+def _clause_vars(lits) -> list:
+    vs = set()
+    for _, a in lits:
+        stack = [a]
+        while stack:
+            x = stack.pop()
+            if type(x) is int:
+                vs.add(x)
+            elif type(x) is tuple:
+                stack.extend(x[1:])
+    return sorted(vs)
+
+
+def clause_holds(lits, interp, size, vs=None) -> bool:
+    """The clause (variables universally quantified) is true."""
+    if vs is None:
+        vs = _clause_vars(lits)
+    for values in itertools.product(range(size), repeat=len(vs)):
+        env = dict(zip(vs, values))
+        if not any(_eval_atom(a, interp, env) == sign for sign, a in lits):
+            return False
+    return True
+
+
+def describe(interp, size) -> str:
+    parts = []
+    for n in sorted(interp):
+        table = interp[n]
+        if list(table) == [()]:
+            v = table[()]
+            parts.append(f"{n} = {str(v).lower() if isinstance(v, bool) else v}")
+        else:
+            parts.append(n + ": " + ", ".join(
+                f"({', '.join(map(str, k))}) -> {str(v).lower() if isinstance(v, bool) else v}"
+                for k, v in table.items()))
+    return f"domain of {size}: " + ("; ".join(parts) if parts else "no symbols")
+
+
+class SpotChecker:
+    """Caches the small models of each statement's formula."""
+
+    def __init__(self):
+        self._models: dict = {}
+
+    def counterexample(self, key, formula, symbols: dict, lits, size: int):
+        """A description of a model of ``formula`` on ``size`` elements in
+        which the clause is false, or None (also when the size is skipped)."""
+        ck = (key, size)
+        if ck not in self._models:
+            try:
+                self._models[ck] = models(formula, symbols, size)
+            except _Skip:
+                self._models[ck] = None
+        ms = self._models[ck]
+        if ms is None:
+            return None
+        vs = _clause_vars(lits)
+        for interp in ms:
+            if not clause_holds(lits, interp, size, vs):
+                return describe(interp, size)
+        return None
+
+
+def formula_signature(f) -> dict:
+    """``name -> (kind, arity)`` for the symbols of a formula, the kind read
+    off the place of use (atom head: predicate; inside a term: function)."""
+    sig: dict = {}
+    stack = [f]
+    while stack:
+        x = stack.pop()
+        if isinstance(x, Atom):
+            a = x.term
+            if type(a) is str:
+                sig[a] = ("predicate", 0)
+                continue
+            if a[0] != EQ:
+                sig[a[0]] = ("predicate", len(a) - 1)
+            terms = list(a[1:])
+            while terms:
+                t = terms.pop()
+                if type(t) is str:
+                    sig[t] = ("function", 0)
+                elif type(t) is tuple:
+                    sig[t[0]] = ("function", len(t) - 1)
+                    terms.extend(t[1:])
+        elif isinstance(x, Not):
+            stack.append(x.arg)
+        elif isinstance(x, (And, Or)):
+            stack.extend(x.args)
+        elif isinstance(x, (Implies, Iff)):
+            stack.extend((x.left, x.right))
+        elif isinstance(x, Quant):
+            stack.append(x.body)
+    return sig
