@@ -145,3 +145,10 @@ def test_fingerprint_index_misses_nothing(entries, q):
         m = {}
         if match(q, t, m):
             assert k in ins
+
+
+@given(terms())
+@settings(max_examples=200, deadline=None)
+def test_unrolled_fingerprint_agrees(t):
+    from worker.saturation.index import fingerprint, fingerprint8
+    assert fingerprint8(t) == fingerprint(t)

@@ -84,6 +84,60 @@ def _inst_ok(q, e) -> bool:
 _OK = {"unify": _unify_ok, "gen": _gen_ok, "inst": _inst_ok}
 
 
+def _direct(q, mode):
+    """The child keys compatible with query feature ``q``, when they can be
+    listed without scanning (None: scan the children with the filter)."""
+    if type(q) is str:
+        return (q,) if mode == "inst" else (q, VAR, BELOW)
+    if mode == "gen":
+        return (VAR, BELOW) if q == VAR else (BELOW,) if q == BELOW else (NONE, BELOW)
+    if mode == "unify":
+        return (NONE, BELOW) if q == NONE else None
+    return (NONE,) if q == NONE else None
+
+
+def fingerprint8(t) -> tuple:
+    """:func:`fingerprint` at the default positions, unrolled."""
+    tt = type(t)
+    if tt is int:
+        return (VAR, BELOW, BELOW, BELOW, BELOW, BELOW, BELOW, BELOW)
+    if tt is str:
+        return (t, NONE, NONE, NONE, NONE, NONE, NONE, NONE)
+    n = len(t)
+    out = [t[0]]
+    sub = []
+    for i in (1, 2, 3):
+        if i < n:
+            a = t[i]
+            ta = type(a)
+            if ta is int:
+                out.append(VAR)
+                if i < 3:
+                    sub.append(BELOW)
+                    sub.append(BELOW)
+            elif ta is str:
+                out.append(a)
+                if i < 3:
+                    sub.append(NONE)
+                    sub.append(NONE)
+            else:
+                out.append(a[0])
+                if i < 3:
+                    for k in (1, 2):
+                        if k < len(a):
+                            b = a[k]
+                            tb = type(b)
+                            sub.append(VAR if tb is int else b if tb is str else b[0])
+                        else:
+                            sub.append(NONE)
+        else:
+            out.append(NONE)
+            if i < 3:
+                sub.append(NONE)
+                sub.append(NONE)
+    return tuple(out + sub)
+
+
 class FingerprintIndex:
     __slots__ = ("root", "size", "dead", "positions")
 
@@ -95,7 +149,8 @@ class FingerprintIndex:
 
     def insert(self, term, value) -> None:
         node = self.root
-        fp = fingerprint(term, self.positions)
+        fp = fingerprint(term, self.positions) if self.positions is not POSITIONS \
+            else fingerprint8(term)
         for f in fp[:-1]:
             nxt = node.get(f)
             if nxt is None:
@@ -109,27 +164,31 @@ class FingerprintIndex:
 
     def _retrieve(self, query, mode):
         ok = _OK[mode]
-        fp = fingerprint(query, self.positions)
+        fp = fingerprint(query, self.positions) if self.positions is not POSITIONS \
+            else fingerprint8(query)
         last = len(fp) - 1
+        out = []
         stack = [(self.root, 0)]
+        pop = stack.pop
+        push = stack.append
         while stack:
-            node, d = stack.pop()
+            node, d = pop()
             q = fp[d]
-            if d == last:
-                for e, leaf in node.items():
-                    if ok(q, e):
-                        for entry in leaf:
-                            if entry[1][0].alive:
-                                yield entry
+            keys = _direct(q, mode)
+            if keys is None:
+                children = [c for e, c in node.items() if ok(q, e)]
             else:
-                if type(q) is str and mode == "inst":
-                    nxt = node.get(q)
-                    if nxt is not None:
-                        stack.append((nxt, d + 1))
-                    continue
-                for e, nxt in node.items():
-                    if ok(q, e):
-                        stack.append((nxt, d + 1))
+                children = [c for c in map(node.get, keys) if c is not None]
+            if d == last:
+                for leaf in children:
+                    for entry in leaf:
+                        if entry[1][0].alive:
+                            out.append(entry)
+            else:
+                d += 1
+                for c in children:
+                    push((c, d))
+        return out
 
     def unifiable(self, query):
         return self._retrieve(query, "unify")

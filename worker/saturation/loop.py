@@ -93,6 +93,7 @@ class Saturation:
                          self.units[False]]
         self.next_id = 1
         self.max_vars = 0
+        self.irreducible: set = set()   # terms no active unit equation rewrites
         self.wheap: list = []
         self.aheap: list = []
         self.picks = 0
@@ -229,6 +230,7 @@ class Saturation:
                         self.sup_from.insert(l, (c, i, side))
         if len(lits) == 1 and lits[0][0] and self.is_eq(lits[0][1]):
             _s, (_e, l, r) = lits[0]
+            self.irreducible.clear()
             cmp = kbo.compare(l, r)
             if cmp == ">":
                 self.demod.insert(l, (c, 0, True))
@@ -303,33 +305,50 @@ class Saturation:
                 return c
 
     def _redex(self, c: Clause):
-        kbo = self.kbo
-        gens = self.demod.generalizations
+        """The first position (innermost, leftmost) that an active unit
+        equation rewrites: ``(unit, side, literal, position, matcher)``."""
         for j, (sign, atom) in enumerate(c.lits):
             if type(atom) is not tuple:
                 continue
-            eq = self.is_eq(atom)
-            cands = []
+            guard = atom if (sign and self.is_eq(atom)) else None
             for k in range(1, len(atom)):
-                for p, u in subterms(atom[k]):
-                    if type(u) is not int:
-                        cands.append(((k,) + p, u))
-            for pos, u in reversed(cands):      # innermost first
-                for l, (a, side, oriented) in gens(u):
-                    self.check()
-                    if a is c:
-                        continue
-                    m: dict = {}
-                    if not match(l, u, m):
-                        continue
-                    rr = instantiate(a.lits[0][1][2 - side], m)
-                    if not oriented and not kbo.gt(u, rr):
-                        continue
-                    if sign and eq and len(pos) == 1:
-                        other = atom[3 - pos[0]]
-                        if not kbo.gt(other, rr) and _is_renaming(m):
-                            continue
+                found = self._find(atom[k], (k,), c, guard)
+                if found is not None:
+                    a, side, pos, m = found
                     return a, side, j, pos, m
+        return None
+
+    def _find(self, t, pos, c, guard):
+        if type(t) is int or t in self.irreducible:
+            return None
+        if type(t) is tuple:
+            for k in range(1, len(t)):
+                found = self._find(t[k], pos + (k,), c, guard)
+                if found is not None:
+                    return found
+        kbo = self.kbo
+        blocked = False
+        for l, (a, side, oriented) in self.demod.generalizations(t):
+            self.check()
+            if a is c:
+                blocked = True
+                continue
+            m: dict = {}
+            if not match(l, t, m):
+                continue
+            rr = instantiate(a.lits[0][1][2 - side], m)
+            if not oriented and not kbo.gt(t, rr):
+                continue
+            if guard is not None and len(pos) == 1:
+                # a whole side of a positive equation: the unit's instance must
+                # be smaller than the clause
+                other = guard[3 - pos[0]]
+                if not kbo.gt(other, rr) and _is_renaming(m):
+                    blocked = True
+                    continue
+            return a, side, pos, m
+        if not blocked:
+            self.irreducible.add(t)
         return None
 
     def demodulate(self, c: Clause) -> Clause:
