@@ -262,3 +262,21 @@ def test_statement_hash_ignores_layout_and_variable_names_but_not_content():
     assert h[0] == h[3]            # axiom and hypothesis play the same part
     t = parse_text("fof(a1, axiom, ! [X, Y] : (p(X, Y) => q(Y))).\n")
     assert statement_hash(t.statements[0]) == h[0]   # TPTP and native alike
+
+
+def test_pelletier_53_holds_in_all_sixteen_models_of_its_premise():
+    """Pelletier 53 (written from memory): its premise says there are exactly
+    two things, so the conjecture is a theorem iff it holds for each of the
+    16 binary relations on two elements; the model evaluator checks each."""
+    import itertools
+
+    from worker.certify.evaluate import check_model
+    prob = load_problem(str(CORPUS / "checks" / "pelletier" / "p53.p"))
+    (goal,) = prob.conjectures()
+    pairs = [(x, y) for x in range(2) for y in range(2)]
+    for bits in itertools.product([False, True], repeat=4):
+        model = {"size": 2, "functions": {},
+                 "predicates": {"f": {"arity": 2, "values": [[[x, y], b] for (x, y), b
+                                                             in zip(pairs, bits)]}}}
+        rep = check_model(model, prob, goal.name)
+        assert not rep.ok and "holds in the model" in rep.detail, (bits, rep.detail)
