@@ -661,3 +661,65 @@ def test_every_clause_of_the_corpus_passes_the_input_checks():
             assert rep.ok, (f, conj, rep.detail)
             total += rep.checked
     assert total >= 500
+
+
+# ------------------------------------------------------------- properties of the variant test
+
+from hypothesis import given, settings, strategies as st  # noqa: E402
+
+_var = st.integers(0, 3)
+_const = st.sampled_from(["a", "b"])
+_term = st.recursive(st.one_of(_var, _const),
+                     lambda sub: st.tuples(st.just("f"), sub), max_leaves=3)
+_atom = st.one_of(st.tuples(st.just("p"), _term, _term), st.tuples(st.just("q"), _term),
+                  st.tuples(st.just("="), _term, _term), st.just("r"))
+_clause = st.lists(st.tuples(st.booleans(), _atom), min_size=0, max_size=4)
+
+
+def _map_vars(t, m):
+    if type(t) is int:
+        return m[t]
+    if type(t) is str:
+        return t
+    return (t[0], *[_map_vars(a, m) for a in t[1:]])
+
+
+def _clause_vars_of(c):
+    return sorted({v for _, a in c for v in T.variables(a)})
+
+
+@settings(max_examples=300, deadline=None)
+@given(_clause, st.permutations(range(4)), st.randoms(use_true_random=False))
+def test_a_renamed_shuffled_mirrored_clause_is_a_variant(c, perm, rnd):
+    m = dict(zip(range(4), [p + 10 for p in perm]))
+    d = []
+    for sign, a in c:
+        a = _map_vars(a, m)
+        if type(a) is tuple and a[0] == "=" and rnd.random() < 0.5:
+            a = ("=", a[2], a[1])
+        d.append((sign, a))
+    rnd.shuffle(d)
+    assert is_variant(c, d) and is_variant(d, c)
+
+
+@settings(max_examples=300, deadline=None)
+@given(_clause, st.data())
+def test_merging_two_variables_is_not_a_variant(c, data):
+    vs = _clause_vars_of(c)
+    if len(vs) < 2:
+        return
+    x, y = data.draw(st.sampled_from([(x, y) for x in vs for y in vs if x != y]))
+    m = {v: v for v in range(4)}
+    m[x] = y
+    d = [(sign, _map_vars(a, m)) for sign, a in c]
+    assert not is_variant(c, d) and not is_variant(d, c)
+
+
+def test_odd_inputs_are_refused_without_raising():
+    pr, cp, pf = case_resolution()
+    bad = copy.deepcopy(pf)
+    bad["axioms_used"] = [["a1"]]               # unhashable entries
+    rep = check_proof(bad, pr, cp)
+    assert not rep.ok
+    rep = check_proof(pf, pr, None)              # no clausified problem at all
+    assert not rep.ok and "could not be read" in rep.detail

@@ -849,8 +849,14 @@ def check_input_clauses(problem, cp) -> CheckReport:
 def check_proof(proof: dict, problem, cp) -> CheckReport:
     """Replay ``proof`` against the obligation (``problem``, ``cp``).
     Never raises: a refusal names the step and says what is wrong."""
-    checker = _Checker(proof, problem, cp)
+    try:
+        checker = _Checker(proof, problem, cp)
+    except Exception as e:          # a refusal is always the safe answer
+        return CheckReport(False, 0, f"the obligation could not be read ({e})", None)
     try:
         return checker.run()
     except Refused as r:
         return CheckReport(False, len(checker.clauses), r.detail, r.step)
+    except Exception as e:
+        return CheckReport(False, len(checker.clauses),
+                           f"the proof could not be read ({type(e).__name__}: {e})", None)
