@@ -6,7 +6,7 @@
 % note: uncertain rendering: the three axiom schemes of a complete axiomatization of
 %   classical implication and negation with detachment, as remembered; the
 %   conjecture is a tautology, so it is derivable and the status is Theorem
-%   whatever the exact published wording. Hard: not expected within 10 seconds.
+%   whatever the exact published wording.
 
 fof(axiom_k, axiom,
     ! [X, Y] : t(i(X, i(Y, X)))).
