@@ -91,6 +91,8 @@ def test_equality_axioms_mode():
     # reflexivity, symmetry, transitivity, then one congruence clause per argument
     # of * (2) and i (1)
     assert len(ax) == 3 + 2 + 1
+    cp = cp_of("axiom h1: a = b\naxiom h2: b = c\naxiom h3: p(f(a, a))\n"
+               "conjecture g: f(c, a) = f(a, c) and p(f(c, c))\n")
     out = portfolio.run(cp, settings(equality="axioms", model_search=False),
                         time.monotonic() + 8)
     assert out["outcome"] == "refutation"
