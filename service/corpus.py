@@ -738,13 +738,17 @@ def run_view(run: dict, jobs: dict, guard_models: dict | None = None) -> dict:
     guard_models = guard_models or {}
     guards = [_guard_state(g, jobs.get(g.get("job")), guard_models.get(g.get("job")))
               for g in run.get("guards", [])]
-    by_set = {g["set"]: g for g in guards}
+    # An axiom set is contradictory when its guard refuted it, or when the
+    # engine's (checked) proof of some conjecture never used the conjecture.
+    broken = {g["set"] for g in guards if g["consistent"] is False}
+    for ob in run["obligations"]:
+        if (jobs.get(ob["job"]) or {}).get("verdict") == V.CONTRADICTORY_AXIOMS:
+            broken.add(ob["axiom_set"])
     rows = []
     for ob in run["obligations"]:
         rec = jobs.get(ob["job"]) or {}
         verdict = rec.get("verdict")
-        g = by_set.get(ob["axiom_set"])
-        contradictory = g is not None and g["consistent"] is False
+        contradictory = ob["axiom_set"] in broken
         expected = run.get("expectations", {}).get(ob["key"])
         reused = ob.get("reused")
         rows.append({
@@ -759,7 +763,7 @@ def run_view(run: dict, jobs: dict, guard_models: dict | None = None) -> dict:
             "vacuous": bool(contradictory and verdict in V.PROVED)})
     all_jobs = [ob["job"] for ob in run["obligations"]] + [g.get("job") for g in guards if g.get("job")]
     finished = all((jobs.get(j) or {}).get("state") in FINAL for j in all_jobs)
-    if any(g["consistent"] is False for g in guards):
+    if broken:
         consistent = False
     elif all(g["consistent"] is True for g in guards):
         consistent = True

@@ -103,6 +103,15 @@ def test_guard_marks_theorems_vacuous_and_sets_consistency():
     assert not any(r["vacuous"] for r in v["rows"])
 
 
+def test_a_contradictory_axioms_verdict_marks_its_set_even_without_the_guard():
+    guard = [{"set": "A", "axioms": 3, "job": "g1"}]
+    rows = [("f#t", "Theorem", 0.1, ["x"], False), ("f#c", "ContradictoryAxioms", 0.1, ["x"], False)]
+    v = view("A", rows, guards=guard,
+             jobs_extra={"g1": {"id": "g1", "state": "done", "verdict": "Timeout"}})
+    assert v["summary"]["axioms_consistent"] is False
+    assert [r["vacuous"] for r in v["rows"]] == [True, True]
+
+
 def test_run_exit_codes():
     assert cli_corpus.exit_code({"lost": 0, "flipped": 0, "unexpected": 0,
                                  "axioms_consistent": True, "undecided": 0}) == 0
