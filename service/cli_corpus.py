@@ -2,6 +2,7 @@
 
     nightjar corpus run DIR|MANIFEST [--wait] [--full] [--json]
     nightjar corpus diff [RUN_A RUN_B] [--suite NAME] [--json] [--threshold SECONDS]
+    nightjar corpus runs [--suite NAME] [--json]
 
 ``run`` loads the suite on this side (every problem in it reported at once,
 with its file:line:col, before anything is sent), submits it as one run,
@@ -278,6 +279,28 @@ def cmd_diff(args) -> int:
     return EXIT_REGRESSION if d["regression"] else EXIT_OK
 
 
+@_guarded
+def cmd_runs(args) -> int:
+    client = _client(args)
+    suites = [x["suite"] for x in client.get("/api/corpus/suites")["suites"]]
+    if args.suite:
+        suites = [args.suite]
+    out = []
+    for name in suites:
+        out.extend(dict(r, suite=name) for r in client.get(f"/api/corpus/suites/{name}/runs")["runs"])
+    if args.json:
+        print(json.dumps({"runs": out}))
+        return EXIT_OK
+    if not out:
+        print("no runs yet" + (f" of suite {args.suite}" if args.suite else ""))
+        return EXIT_OK
+    for r in out:
+        when = time.strftime("%Y-%m-%d %H:%M:%S", time.localtime(r["created"]))
+        print(f"{r['run']}  {when}  {r['suite']:<20} {r['obligations']:>5} obligations, "
+              f"{r['reused']:>5} reused  {'(full) ' if r['full'] else ''}{r.get('manifest') or ''}")
+    return EXIT_OK
+
+
 def register(sub) -> None:
     p = sub.add_parser("corpus", help="run a suite of problems and compare its runs",
                        description="Suites of problems with a manifest (suite.toml): run "
@@ -315,3 +338,9 @@ def register(sub) -> None:
                    help="report time changes of at least this many seconds (default 1)")
     d.add_argument("--server", metavar="URL", help="service address")
     d.set_defaults(func=cmd_diff)
+
+    s = csub.add_parser("runs", help="list the runs of your suites, newest first")
+    s.add_argument("--suite", metavar="NAME", help="only this suite")
+    s.add_argument("--json", action="store_true", help="one JSON object")
+    s.add_argument("--server", metavar="URL", help="service address")
+    s.set_defaults(func=cmd_runs)

@@ -73,6 +73,12 @@ def test_demo_run_rerun_with_second_axioms_and_diff(api, workers):
     assert lines[1].startswith("axioms: consistent")
     assert "reused 31, searched 0" in r.stdout
 
+    r = nightjar(api, token, "corpus", "runs", "--json")
+    assert r.returncode == 0
+    listed = json.loads(r.stdout)["runs"]
+    assert [x["reused"] for x in listed] == [31, second["reused"], 0]   # newest first
+    assert listed[2]["run"] == first["run"] and listed[1]["manifest"] == "suite-v2.toml"
+
 
 def test_contradictory_axioms_trip_the_guard(api, workers, tmp_path):
     workers.start(1)
