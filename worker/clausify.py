@@ -405,6 +405,21 @@ class _Budget:
                 f"the limit of one problem", statement.span)
 
 
+def _count(node):
+    """The number of clauses distribution will give (before clean-up)."""
+    if type(node[0]) is bool:
+        return 1
+    tag, kids = node
+    if tag == 'A':
+        return sum(_count(k) for k in kids)
+    n = 1
+    for k in kids:
+        n *= _count(k)
+        if n > MAX_CLAUSES:
+            return n
+    return n
+
+
 def _cnf(node, budget, statement):
     """Distribute or over and: a list of clauses (tuples of literals)."""
     if type(node[0]) is bool:           # a literal (sign, atom)
@@ -599,6 +614,8 @@ def _clausify(problem, conjecture, naming_limit):
                         found_clauses.append(())
                     continue
                 body = _Skolemizer(fresh_skolem, st.varnames, reuse).run(flat)
+                budget.check(budget.clauses + len(found_clauses)
+                             + _count(body), 0, st)
                 found_clauses.extend(_cnf(body, budget, st))
         seen = set()
         for lits in found_clauses:
