@@ -426,3 +426,28 @@ def test_unsatisfiable_and_contradictory_axioms_are_replayed_too():
     assert res["status"] == V.CONTRADICTORY_AXIOMS
     assert res["certificate"]["kind"] == "proof-replayed"
     assert sorted(res["axioms_used"]) == ["a1", "a2", "a3"]
+
+
+def test_a_refused_proof_turns_the_verdict_into_error(monkeypatch):
+    """The pipeline never reports a proof the checker refuses: a corrupted
+    engine proof (one literal dropped from a derived clause) becomes status
+    Error, certificate "failed", with the step named in the reason."""
+    import worker.portfolio as portfolio
+    real_run = portfolio.run
+    hit = {}
+
+    def corrupting_run(cp, settings, deadline):
+        out = real_run(cp, settings, deadline)
+        steps = out["proof"]["steps"]
+        k = next(k for k, s in enumerate(steps) if s["rule"] != "input" and s["clause"])
+        steps[k]["clause"] = steps[k]["clause"][1:]
+        hit["step"] = steps[k]["id"]
+        return out
+
+    monkeypatch.setattr(portfolio, "run", corrupting_run)
+    problem = load_problem(os.path.join(ROOT, "pelletier", "p26.p"))
+    (conj,) = problem.obligations()
+    res = decide(problem, conj, V.Settings(limits=V.Limits(time=SUITE_TIME)))
+    assert res["status"] == V.ERROR
+    assert res["certificate"]["kind"] == "failed"
+    assert f"refused step {hit['step']}" in res["reason"], res["reason"]
