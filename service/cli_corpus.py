@@ -65,8 +65,11 @@ def axioms_line(summary: dict, guards: list) -> str:
         how = (f"a model of size {sizes[0]}" if len(sizes) == 1 and len(guards) == 1 else
                f"models of size {', '.join(map(str, sizes))}" if sizes else "saturated")
         n = len(guards)
+        again = sum(1 for g in guards if g.get("reused"))
+        note = (f"; {'its' if n == 1 else str(again)} model{'s' if again != 1 else ''} "
+                f"from the last run re-evaluated") if again else ""
         return (f"axioms: consistent ({n} axiom set{'s' if n != 1 else ''} checked; "
-                f"{how})")
+                f"{how}{note})")
     pending = [g for g in guards if g.get("state") not in ("done", "failed", "cancelled")
                and not g.get("reason")]
     if pending:

@@ -516,6 +516,43 @@ def plan_reuse(obligations: list, previous: dict | None, prev_jobs: dict, fetch_
     return out
 
 
+def plan_guard_reuse(guards: list, previous: dict | None, store, check_model=None) -> dict:
+    """Which consistency checks a model of the last run's checks settles at
+    once: a stored model of a satisfiable axiom set is evaluated against each
+    new axioms-only problem (the same set first); if every axiom holds in it,
+    the set is satisfiable, with that model.  Returns guard index -> info."""
+    if check_model is None:
+        from worker.certify.evaluate import check_model
+    if not previous:
+        return {}
+    old = [g for g in previous.get("guards", []) if g.get("job")]
+    if not old:
+        return {}
+    recs = {r["id"]: r for r in store.get_jobs([g["job"] for g in old])}
+    models = []
+    for g in old:
+        rec = recs.get(g["job"])
+        if rec and rec.get("state") == "done" and rec.get("verdict") == V.SATISFIABLE:
+            model = store.get_result(rec["id"]).get("model")
+            if model:
+                models.append((g["set"], rec, model))
+    out = {}
+    for i, g in enumerate(guards):
+        same = [m for m in models if m[0] == g["set"]]
+        for sid, rec, model in (same + [m for m in models if m[0] != g["set"]])[:4]:
+            t0 = time.monotonic()
+            try:
+                rep = check_model(model, g["problem"], None)
+            except Exception:
+                continue
+            if rep.ok:
+                out[i] = {"from_job": rec["id"], "from_run": previous["id"],
+                          "kind": "model-evaluated", "check_seconds":
+                          round(time.monotonic() - t0, 4), "record": rec}
+                break
+    return out
+
+
 # ================================================================= records
 
 class CorpusStore:
@@ -669,10 +706,12 @@ def create_run(store, corpus: CorpusStore, dispatcher, owner: str, body: dict, *
     guard_ok = []
     for g in guards:   # a guard text that does not read back is left out (unknown)
         try:
-            load_problem(GUARD_MAIN, bundle_reader(g["bundle"]["files"]), language="native")
+            g["problem"] = load_problem(GUARD_MAIN, bundle_reader(g["bundle"]["files"]),
+                                        language="native")
             guard_ok.append(g)
         except InputError:
             g["skipped"] = "the axioms could not be printed for the check"
+    guard_reuse = {} if sub["full"] else plan_guard_reuse(guard_ok, previous, store)
     jobs = [{"file": GUARD_FILE, "conjecture": None, "bundle": g["bundle"],
              "time_limit": sub["axiom_check_time"], "reuse_key": None} for g in guard_ok]
     jobs += [{"file": ob["key"].split("#", 1)[0], "conjecture": ob["conjecture"],
@@ -683,13 +722,16 @@ def create_run(store, corpus: CorpusStore, dispatcher, owner: str, body: dict, *
                          f"is {max_jobs}", code="too_many_jobs")
     n = len(guard_ok)
     reused_for_store = {n + i: info["record"] for i, info in reuse.items()}
+    reused_for_store.update({i: info["record"] for i, info in guard_reuse.items()})
     rid = new_run_id()
     bid, ids = store.create_batch(owner, jobs, label=f"corpus {sub['suite']} {rid}",
                                   queue_name=queue_name, settings=sub["settings"],
                                   enqueue=dispatcher.enqueue if dispatcher else None,
                                   reused=reused_for_store)
-    for g, jid in zip(guard_ok, ids[:n]):
+    for i, (g, jid) in enumerate(zip(guard_ok, ids[:n])):
         g["job"] = jid
+        if i in guard_reuse:
+            g["reused"] = {k: v for k, v in guard_reuse[i].items() if k != "record"}
     axiom_sets = {ob["axiom_set"]: ob["axioms"] for ob in obligations}
     run = {"id": rid, "suite": sub["suite"], "owner": owner, "by": owner,
            "created": time.time(), "batch": bid, "full": sub["full"],
@@ -698,7 +740,7 @@ def create_run(store, corpus: CorpusStore, dispatcher, owner: str, body: dict, *
            "settings": sub["settings"], "expectations": sub["expectations"],
            **sub["meta"],
            "axiom_sets": axiom_sets,
-           "guards": [{k: g[k] for k in ("set", "axioms", "job", "skipped") if k in g}
+           "guards": [{k: g[k] for k in ("set", "axioms", "job", "skipped", "reused") if k in g}
                       for g in guards],
            "obligations": []}
     for i, (ob, jid) in enumerate(zip(obligations, ids[n:])):
@@ -715,7 +757,8 @@ def create_run(store, corpus: CorpusStore, dispatcher, owner: str, body: dict, *
 
 def _guard_state(g: dict, rec: dict | None, model_size) -> dict:
     out = {"set": g["set"], "axioms": g["axioms"], "job": g.get("job"),
-           "verdict": None, "consistent": None, "model_size": None, "seconds": None}
+           "verdict": None, "consistent": None, "model_size": None, "seconds": None,
+           "reused": g.get("reused") is not None}
     if g.get("skipped"):
         out["reason"] = g["skipped"]
         return out

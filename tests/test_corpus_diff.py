@@ -270,6 +270,10 @@ def test_first_run_then_rerun_reuses_everything(env, tmp_path):
 
     _, v2 = env.run_suite(root)
     assert v2["summary"]["reused"] == 5 and v2["summary"]["searched"] == 0
+    # the consistency check: the last run's model, evaluated against the axioms again
+    (g2,) = v2["guards"]
+    assert g2["reused"] and g2["consistent"] is True and g2["model_size"] == g["model_size"]
+    assert v2["summary"]["axioms_consistent"] is True
     kinds = {k: r["reuse"]["kind"] for k, r in rows(v2).items()}
     assert kinds["ac_path"] == "proof-replayed" and kinds["b_lit"] == "model-evaluated"
     assert v2["summary"]["previous"] == s["run"]
@@ -325,6 +329,7 @@ def test_contradictory_axiom_edit_trips_the_guard(env, tmp_path):
     assert s["axioms_consistent"] is False
     (g,) = v["guards"]
     assert g["verdict"] == "Unsatisfiable" and g["consistent"] is False
+    assert not g["reused"]          # the old model fails the new axiom 'dark'
     r = rows(v)
     proved = [k for k, x in r.items() if x["verdict"] in ("Theorem", "ContradictoryAxioms")]
     assert "b_lit" in proved           # everything follows from contradictory axioms
