@@ -630,6 +630,7 @@ class _Checker:
         self._stmt_syms: dict = {}
         self._cp_by_source: dict = {}
         self._spot = spotcheck.SpotChecker()
+        self.spot_checked = 0             # input clauses evaluated in small models
         for ic in cp.clauses:
             self._cp_by_source.setdefault(ic.source, []).append(ic)
 
@@ -673,7 +674,9 @@ class _Checker:
             raise Refused(f"the proof lists axioms_used {used!r}, but its input "
                           f"steps use {sorted(self.inputs_used)!r}")
         rules = ", ".join(f"{k} {v}" for k, v in sorted(self.rule_counts.items()))
-        return CheckReport(True, len(steps), f"{len(steps)} steps replayed ({rules})")
+        spot = (f"; {self.spot_checked} of the input clauses also evaluated in "
+                f"small models of their statements" if self.spot_checked else "")
+        return CheckReport(True, len(steps), f"{len(steps)} steps replayed ({rules}){spot}")
 
     def _introduced(self):
         """Read and check the declared Skolem and definition symbols."""
@@ -820,6 +823,8 @@ class _Checker:
             if bad is not None:
                 raise Refused(f"{_show(clause)} does not follow from {st.name}: "
                               f"it is false in a model of {st.name} ({bad})", sid)
+        if self._spot.tried(st.name, 1):
+            self.spot_checked += 1
 
 
 def check_input_clauses(problem, cp) -> CheckReport:

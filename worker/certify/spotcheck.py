@@ -193,7 +193,8 @@ class SpotChecker:
 
     def counterexample(self, key, formula, symbols: dict, lits, size: int):
         """A description of a model of ``formula`` on ``size`` elements in
-        which the clause is false, or None (also when the size is skipped)."""
+        which the clause is false, or None (also when the size is skipped;
+        :meth:`tried` tells the two apart)."""
         ck = (key, size)
         if ck not in self._models:
             try:
@@ -208,6 +209,12 @@ class SpotChecker:
             if not clause_holds(lits, interp, size, vs):
                 return describe(interp, size)
         return None
+
+
+    def tried(self, key, size: int) -> bool:
+        """Whether the models of ``key`` on ``size`` elements were enumerated
+        (False when there were too many interpretations to try)."""
+        return self._models.get((key, size)) is not None
 
 
 def formula_signature(f) -> dict:
