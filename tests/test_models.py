@@ -382,3 +382,27 @@ def _brute_force_single(clauses, F, P, n):
                         P[a[0], tuple(ev(x, env) for x in a[1:])]) == sign for sign, a in c):
                 return False
     return True
+
+
+@pytest.mark.parametrize("seed", range(0, 40, 4))
+def test_incremental_sizes_agree_with_brute_force(seed):
+    # the same small-signature clause sets, searched through sizes 1..3 in
+    # one incremental run: every size's outcome matches enumeration
+    import random
+    rng = random.Random(seed)
+    funs, preds = {"a": 0, "b": 0, "f": 1}, {"p": 1}
+    clauses = _random_clauses(rng, funs, preds)
+    sig = [(f, "function", k) for f, k in funs.items()] + [("p", "predicate", 1)]
+    s = ModelSearch(_cp(clauses, sig), max_size=3)
+    found = []
+    while not s.done:
+        m = s.run()
+        if m is not None:
+            found.append(m["size"])
+            assert _brute_force_single(
+                clauses, {(f, tuple(a)): v for f, t in m["functions"].items() for a, v in t["values"]},
+                {(p, tuple(a)): v for p, t in m["predicates"].items() for a, v in t["values"]},
+                m["size"])
+    for n in (1, 2, 3):
+        has = _brute_force_has_model(clauses, funs, preds, n)
+        assert (n in found) == has and (n in s.sizes_excluded) == (not has), (n, clauses)

@@ -95,4 +95,4 @@ def format_model(model) -> str:
                 out.append(f"{p}/{k} holds everywhere" + (" except:" if shown else ""))
             for args in shown:
                 out.append(f"  {_fname(p, args)}")
-    return "\n".join(out) + "\n"
+    return "\n".join(out)

@@ -62,8 +62,9 @@ def _lit_terms(lit, N, bases):
 def compile_grounder(fc, N, bases):
     """Python source of a function that adds the new ground instances of one
     flat clause at size ``n`` (those where some variable is ``n-1``), from
-    the outermost value ``start``.  Returns the value to resume from when the
-    clock passes ``deadline``, else None."""
+    the values ``start = (x0, x1)`` of the two outermost variables on.
+    Returns the pair to resume from when the clock passes ``deadline``
+    (checked once per value of the second variable), else None."""
     k = fc.nvars
     lits = []           # (level, expr) for SAT literals
     eqs = {}            # level -> list of (a, b) positive var equations
@@ -98,17 +99,21 @@ def compile_grounder(fc, N, bases):
     for v in range(k):
         if v == 0:
             if k == 1:
-                L.append(f"{ind}if start > top:\n{ind}    return None")
+                L.append(f"{ind}if start[0] > top:\n{ind}    return None")
                 L.append(f"{ind}x0 = top")
                 L.append(f"{ind}if True:")
             else:
-                L.append(f"{ind}for x0 in range(start, n):")
+                L.append(f"{ind}for x0 in range(start[0], n):")
                 ind += "    "
-                L.append(f"{ind}if clock() > deadline:\n{ind}    return x0")
+                if k == 2:
+                    L.append(f"{ind}if clock() > deadline:\n{ind}    return (x0, 0)")
                 L.append(f"{ind}h0 = x0 == top")
                 ind = ind[:-4]
         elif v == k - 1:
             L.append(f"{ind}for x{v} in (R if h{v-1} else T):")
+        elif v == 1:
+            L.append(f"{ind}for x1 in (range(start[1], n) if x0 == start[0] else R):")
+            L.append(f"{ind}    if clock() > deadline:\n{ind}        return (x0, x1)")
         else:
             L.append(f"{ind}for x{v} in R:")
         ind += "    "

@@ -140,7 +140,7 @@ class ModelSearch:
         self._sat = None
         self._phase = "grow"            # grow -> solve -> (next size) grow ...
         self._clause_at = 0             # grounding progress within the size
-        self._start = 0
+        self._start = (0, 0)
         self._size_clauses_added = False
         self._clock_base = {}
 
@@ -212,7 +212,7 @@ class ModelSearch:
         self.current_size = n + 1
         self._phase = "grow"
         self._clause_at = 0
-        self._start = 0
+        self._start = (0, 0)
         self._size_clauses_added = False
 
     def _grow(self, n, deadline) -> bool:
@@ -240,7 +240,7 @@ class ModelSearch:
                 self.reason = f"size {n}: time slice ended while grounding"
                 return False
             self._clause_at += 1
-            self._start = 0
+            self._start = (0, 0)
         self.figures["clauses"] = sat.clauses
         return True
 
