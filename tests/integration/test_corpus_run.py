@@ -45,7 +45,7 @@ def test_demo_run_rerun_with_second_axioms_and_diff(api, workers):
     second = last_json(r.stdout)
     assert second["previous"] == first["run"]
     assert second["flipped"] == 2 and second["lost"] == 0 and second["unexpected"] == 0
-    assert second["reused"] >= 20 and second["searched"] >= 2
+    assert second["reused"] >= 10 and second["searched"] >= 2
     assert second["reused"] + second["searched"] == 31
     rows = {x["key"].split("#")[1]: x for x in map(json.loads, r.stdout.strip().splitlines()[:-1])}
     # maud_home was edited: the proof that used it is searched again, not reused
