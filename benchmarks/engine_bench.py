@@ -69,6 +69,8 @@ def main(argv=None) -> int:
                     help="also run strategy steady with and without the indexes")
     ap.add_argument("--compare-only", action="store_true",
                     help="only the indexed-vs-naive comparison")
+    ap.add_argument("--per-strategy", action="store_true",
+                    help="run every named strategy alone (how the schedule is tuned)")
     ap.add_argument("--only", help="comma-separated base names to run")
     a = ap.parse_args(argv)
     settings = V.Settings(limits=V.Limits(time=a.time_limit), strategy=a.strategy,
@@ -79,6 +81,9 @@ def main(argv=None) -> int:
         probs = [p for p in probs if os.path.basename(p[0]).split(".")[0] in keep]
     if a.compare_only:
         compare(probs, a.time_limit)
+        return 0
+    if a.per_strategy:
+        per_strategy(probs, a.time_limit)
         return 0
     rows = []
     for path, exp in probs:
@@ -141,6 +146,41 @@ def limit_check():
     print("1-second limit: " + "; ".join(parts) + f"; worst {worst:.3f} s")
 
 
+def per_strategy(probs, limit):
+    """Each named strategy alone on every obligation (no model search, a CPU
+    limit of ``limit`` seconds): solved count, CPU seconds, and which
+    problems only it solves."""
+    from worker.portfolio import run_strategy
+    from worker.saturation import strategy as S
+    cps = []
+    for path, _e in probs:
+        try:
+            cps += [(os.path.basename(path), cp) for cp in _obligations(path)]
+        except InputError:
+            pass
+    solved = {}
+    for name, strat in S.STRATEGIES.items():
+        if strat.indexing == "linear":
+            continue
+        got = {}
+        cpu = 0.0
+        for k, (label, cp) in enumerate(cps):
+            c0 = time.process_time()
+            out = run_strategy(cp, strat, time.monotonic() + 20 * limit,
+                               cpu_deadline=c0 + limit)
+            c = time.process_time() - c0
+            cpu += c
+            if out["outcome"] == "refutation" or (out["outcome"] == "saturated" and out["complete"]):
+                got[k] = c
+        solved[name] = got
+        print(f"  {name:14s} solved {len(got):3d} of {len(cps)}; CPU {cpu:7.1f} s; "
+              f"median CPU of solved {statistics.median(got.values()) if got else 0:.3f} s", flush=True)
+    for name, got in solved.items():
+        only = [cps[k][0] for k in got if all(k not in g for n2, g in solved.items() if n2 != name)]
+        if only:
+            print(f"  only {name}: {', '.join(only)}")
+
+
 def stress_problem(n: int) -> str:
     """A generated problem of our own with a large active set, where
     retrieval dominates: locks along a canal, each lock below the next,
@@ -167,7 +207,8 @@ def _obligations(path_or_text):
 def compare(probs, limit, stress=(20, 30, 40)):
     """Indexed against naive linear scan: the same strategy (steady and its
     linear-scan twin), no model search, CPU seconds of the saturation runs
-    (the machine may be shared, so wall time would mislead)."""
+    and a CPU limit of ``limit`` seconds (the machine may be shared, so wall
+    time would mislead)."""
     from worker.portfolio import run_strategy
     from worker.saturation import strategy as S
     print("\nindexed vs naive (strategy steady / steady-linear, CPU seconds):")
@@ -182,7 +223,8 @@ def compare(probs, limit, stress=(20, 30, 40)):
             t = {}
             for strat in ("steady-linear", "steady"):
                 c0 = time.process_time()
-                out = run_strategy(cp, S.get(strat), time.monotonic() + limit)
+                out = run_strategy(cp, S.get(strat), time.monotonic() + 20 * limit,
+                                   cpu_deadline=c0 + limit)
                 t[strat] = (time.process_time() - c0, out["outcome"])
             naive, fast = t["steady-linear"], t["steady"]
             if naive[0] <= 1.0:

@@ -73,8 +73,9 @@ def _human(path: str, res: dict) -> str:
         lines.append(f"  why: {res['reason']}")
     cert = res.get("certificate") or {}
     kind = cert.get("kind", "none")
-    text = {"proof-replayed": f"proof replayed, {cert.get('checked', 0)} steps checked",
-            "model-evaluated": f"model evaluated, {cert.get('checked', 0)} formulas checked",
+    n = cert.get("checked", 0)
+    text = {"proof-replayed": f"proof replayed, {n} step{'s' if n != 1 else ''} checked",
+            "model-evaluated": f"model evaluated, {n} formula{'s' if n != 1 else ''} checked",
             "failed": f"CHECK FAILED: {cert.get('detail', '')}",
             "none": "nothing checked" + (f" ({cert['detail']})" if cert.get("detail") else "")}
     lines.append(f"  certificate: {text.get(kind, kind)}")

@@ -99,3 +99,10 @@ def test_equality_axioms_mode():
     rules = {s["rule"] for s in out["proof"]["steps"]}
     assert "equality_axiom" in rules
     assert not rules & {"superposition", "demodulation", "equality_resolution"}
+
+
+def test_unknown_strategy_is_an_input_error():
+    from worker.syntax.errors import InputError
+    cp = cp_of("axiom h: p(a)\nconjecture g: p(a)\n")
+    with pytest.raises(InputError):
+        portfolio.run(cp, settings(strategy="nonsense"), time.monotonic() + 1)

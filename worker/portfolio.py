@@ -110,6 +110,10 @@ def run(cp, settings, deadline: float) -> dict:
         return None
 
     if settings.strategy:
+        if settings.strategy not in S.STRATEGIES:
+            from .syntax.errors import InputError
+            raise InputError(f"unknown strategy {settings.strategy!r}; known: "
+                             + ", ".join(sorted(S.STRATEGIES)))
         plan = [(S.get(settings.strategy), 1.0)]
     else:
         plan = [(S.get(n), share) for n, share in S.DEFAULT_SCHEDULE]
