@@ -723,3 +723,18 @@ def test_odd_inputs_are_refused_without_raising():
     assert not rep.ok
     rep = check_proof(pf, pr, None)              # no clausified problem at all
     assert not rep.ok and "could not be read" in rep.detail
+
+
+def test_spot_check_judges_definition_clauses_with_their_statement():
+    """a2 is (q and r) or s; its normal form with def1 standing for "q and
+    r" is def1 or s, not def1 or q, not def1 or r.  A clausifier that wrote
+    not def1 or not q instead is caught on one element (q, r true, s false:
+    a2 holds, but no meaning of def1 satisfies the three clauses)."""
+    pr, cp, pf = case_skolem_and_definition()
+    assert check_proof(pf, pr, cp).ok
+    k = next(i for i, ic in enumerate(cp.clauses)
+             if ic.source == "a2" and (True, "r") in ic.lits)
+    cp.clauses[k] = InputClause(((False, "def1"), (False, "q")), "a2", "axiom", False)
+    rep = check_proof(pf, pr, cp)
+    assert not rep.ok and rep.failing_step == 4
+    assert "cannot hold in a model of a2" in rep.detail, rep.detail

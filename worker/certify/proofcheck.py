@@ -631,6 +631,7 @@ class _Checker:
         self._cp_by_source: dict = {}
         self._spot = spotcheck.SpotChecker()
         self.spot_checked = 0             # input clauses evaluated in small models
+        self._defs_checked: dict = {}     # statement -> "" (fine) or a countermodel
         for ic in cp.clauses:
             self._cp_by_source.setdefault(ic.source, []).append(ic)
 
@@ -808,13 +809,14 @@ class _Checker:
         if not SPOT_CHECK:
             return
         intro = [self.introduced[n] for n, _ in _clause_syms(clause) if n in self.introduced]
-        if any(kind == "predicate" for kind, _, _ in intro):
-            return
         formula = Not(st.formula) if st.role == CONJECTURE else st.formula
         sig = spotcheck.formula_signature(formula)
         for n, (kind, arity, owner) in self.introduced.items():
             if owner == st.name and kind == "function":
                 sig[n] = (kind, arity)      # one table only on one element
+        if any(kind == "predicate" for kind, _, _ in intro):
+            self._spot_check_definitions(st, formula, sig, sid)
+            return
         sizes = (1,) if intro else (1, 2)
         for size in sizes:
             sym = sig if size == 1 else {n: v for n, v in sig.items()
@@ -823,6 +825,24 @@ class _Checker:
             if bad is not None:
                 raise Refused(f"{_show(clause)} does not follow from {st.name}: "
                               f"it is false in a model of {st.name} ({bad})", sid)
+        if self._spot.tried(st.name, 1):
+            self.spot_checked += 1
+
+    def _spot_check_definitions(self, st, formula, sig, sid):
+        """A clause with definition symbols: the statement's whole normal
+        form must be satisfiable in each one-element model of the statement,
+        for some meaning of its definition predicates (checked once per
+        statement)."""
+        done = self._defs_checked.get(st.name)
+        if done is None:
+            defs = {n: ar for n, (kind, ar, owner) in self.introduced.items()
+                    if owner == st.name and kind == "predicate"}
+            clauses = [ic.lits for ic in self._cp_by_source.get(st.name, ())]
+            bad = self._spot.definitions_fail(st.name, formula, sig, defs, clauses)
+            done = self._defs_checked[st.name] = bad or ""
+        if done:
+            raise Refused(f"the normal form of {st.name} cannot hold in a model of "
+                          f"{st.name} ({done}), whatever its definition symbols mean", sid)
         if self._spot.tried(st.name, 1):
             self.spot_checked += 1
 

@@ -16,9 +16,12 @@ Why this is sound (a correct clausification always passes):
   ``C`` there whatever the Skolem symbols are;
 * without Skolem symbols, ``F`` implies ``C`` outright, on every domain.
 
-Clauses with definition symbols are not spot-checked (a definition predicate
-is only constrained by the other clauses of its statement). A failure gives
-the interpretation, so the refusal explains itself.
+A clause with definition symbols is judged with the other clauses of its
+statement: on one element, every model of ``F`` must extend to the
+definition predicates so that the statement's whole normal form holds (true
+for a correct clausification: let each definition predicate mean its
+subformula). A failure gives the interpretation, so the refusal explains
+itself.
 """
 
 from __future__ import annotations
@@ -210,6 +213,37 @@ class SpotChecker:
                 return describe(interp, size)
         return None
 
+
+    def definitions_fail(self, key, formula, symbols: dict, defs: dict, clauses):
+        """For clauses with definition symbols: in every model of ``formula``
+        on one element, some meaning of the definition predicates ``defs``
+        (name -> arity) makes all ``clauses`` (the statement's whole normal
+        form) true.  Returns a description of a model where none does, or
+        None (also when skipped: too many models or definitions)."""
+        ck = (key, 1)
+        if ck not in self._models:
+            try:
+                self._models[ck] = models(formula, symbols, 1)
+            except _Skip:
+                self._models[ck] = None
+        ms = self._models[ck]
+        names = sorted(defs)
+        if ms is None or len(ms) * 2 ** len(names) > MAX_INTERPRETATIONS[1] * 4:
+            return None
+        vss = [_clause_vars(c) for c in clauses]
+        try:
+            for interp in ms:
+                for bits in itertools.product((False, True), repeat=len(names)):
+                    full = dict(interp)
+                    for n, b in zip(names, bits):
+                        full[n] = {(0,) * defs[n]: b}
+                    if all(clause_holds(c, full, 1, vs) for c, vs in zip(clauses, vss)):
+                        break
+                else:
+                    return describe(interp, 1)
+        except KeyError:        # a symbol outside the statement: not ours to judge here
+            return None
+        return None
 
     def tried(self, key, size: int) -> bool:
         """Whether the models of ``key`` on ``size`` elements were enumerated
