@@ -315,3 +315,104 @@ def test_deterministic():
     assert [(c.lits, c.source, c.skolems, c.definitions) for c in a.clauses] == \
         [(c.lits, c.source, c.skolems, c.definitions) for c in b.clauses]
     assert a.skolems == b.skolems and a.definitions == b.definitions
+
+
+# ------------------------------------------------------------ from text
+
+def parse(text, name="t.nj", language=None):
+    from worker.syntax import parse_text
+    return parse_text(text, name, language)
+
+
+def test_parsed_native_inner_skolemization():
+    p = parse("axiom a: forall x y. exists z. p(x, z)\n")
+    cp = clausify(p, None)
+    assert texts(cp) == ["p(X0, sk1(X0))"]
+    assert cp.skolems["sk1"].variable == "z"
+
+
+def test_parsed_native_freshness_and_conjecture():
+    p = parse("axiom a: p(sk1) and q(def1)\n"
+              "axiom b: forall x. exists y. r(x, y)\n"
+              "conjecture c: exists x. q(x)\n"
+              "conjecture d: p(sk1)\n")
+    cp = clausify(p, "c")
+    assert [c.source for c in cp.clauses] == ["a", "a", "b", "c"]
+    (sk,) = cp.skolems
+    assert sk not in ("sk1", "def1") and cp.skolems[sk].arity == 1
+    assert texts(cp)[-1] == "not q(X0)"
+    assert [c.conj for c in cp.clauses] == [False, False, False, True]
+    assert cp.signature["r"].kind == "predicate"
+
+
+def test_parsed_tptp_roles():
+    p = parse("fof(a1, axiom, ![X]: (p(X) => q(X))).\n"
+              "fof(d1, definition, ![X]: (r(X) <=> p(X))).\n"
+              "cnf(n1, negated_conjecture, ~q(c) | X = X).\n"
+              "cnf(n2, negated_conjecture, ~q(c) | ~r(Y)).\n"
+              "fof(g, conjecture, ?[X]: q(X)).\n", "t.p", "tptp")
+    cp = clausify(p, None)
+    # n1 is a tautology (X = X); the conjecture g is left out
+    assert [(c.source, c.role, c.conj) for c in cp.clauses] == [
+        ("a1", "axiom", False), ("d1", "definition", False),
+        ("d1", "definition", False), ("n2", "negated_conjecture", True)]
+    assert texts(cp)[-1] == "not q(c) or not r(X0)"
+
+
+def test_parsed_andrews_challenge_from_text():
+    """Pelletier (1986) problem 34, written from memory (see above)."""
+    text = ("conjecture p34: ((exists x. forall y. p(x) iff p(y)) iff "
+            "((exists x. q(x)) iff (forall y. q(y)))) iff ((exists x. forall y. "
+            "q(x) iff q(y)) iff ((exists x. p(x)) iff (forall y. p(y))))\n")
+    cp = clausify(parse(text), "p34")
+    f, names = andrews_challenge()
+    by_hand = clausify(problem(("p34", "conjecture", f, names)), "p34")
+    assert cp.figures == by_hand.figures
+    assert [c.lits for c in cp.clauses] == [c.lits for c in by_hand.clauses]
+
+
+def _corpus_files():
+    import glob
+    import os
+    root = os.path.join(os.path.dirname(__file__), "..", "corpus", "checks")
+    return sorted(f for ext in ("p", "nj")
+                  for f in glob.glob(os.path.join(root, "**", f"*.{ext}"),
+                                     recursive=True)
+                  if "/axioms/" not in f.replace(os.sep, "/"))
+
+
+def test_corpus_problems_clausify_with_sound_bookkeeping():
+    """Every problem under corpus/checks: each obligation clausifies, and the
+    bookkeeping of every clause agrees with its literals."""
+    from worker.syntax import load_problem
+    from worker.syntax.terms import normalize_vars
+    files = _corpus_files()
+    if not files:
+        pytest.skip("corpus/checks not present")
+    for path in files:
+        prob = load_problem(path)
+        names = {s.name: s for s in prob.statements}
+        for ob in prob.obligations():
+            cp = clausify(prob, ob)
+            assert cp.figures["clauses"] == len(cp.clauses) < 500, path
+            for c in cp.clauses:
+                st = names[c.source]
+                assert st.role == c.role
+                assert c.conj == (st.role in ("conjecture", "negated_conjecture"))
+                assert st.role != "conjecture" or st.name == ob
+                atoms = [a for _, a in c.lits]
+                assert normalize_vars(atoms)[0] == atoms, path
+                used = {}
+                for a in atoms:
+                    term_symbols_into(a, used)
+                assert set(c.skolems) == {n for n in used if n in cp.skolems
+                                          and cp.skolems[n].statement == c.source}
+                assert set(c.definitions) == {n for n in used
+                                              if n in cp.definitions}
+                for n in c.skolems:
+                    assert cp.signature[n].arity == cp.skolems[n].arity
+
+
+def term_symbols_into(t, acc):
+    from worker.syntax.terms import symbols
+    symbols(t, acc)
