@@ -140,10 +140,10 @@ class Loader:
         finally:
             self.stack.pop()
         if top and not statements and not parser.includes:
-            what = "empty" if not text.strip() else "without statements"
+            what = "empty" if not text.strip() else "without statements (only comments)"
             hint = ("write a statement such as: axiom a1: p(x)" if lang == "native"
                     else "write a statement such as: fof(a1, axiom, p(a)).")
-            raise InputError(f"the file is {what}: there is nothing to prove or check",
+            raise InputError(f"the file is {what}: there is nothing to read",
                              Span(name, 1, 1), src.line(1) or "", hint)
         return statements
 

@@ -156,9 +156,10 @@ def tokenize_native(src: Source):
             ka(g)
         ta(s)
         oa(m.start())
+    end = offs[-1] + len(texts[-1]) if offs else 0   # just after the last token
     ka("eof")
     ta("")
-    oa(len(src.text))
+    oa(end)
     return kinds, texts, offs
 
 
@@ -220,7 +221,8 @@ def tokenize_tptp(src: Source):
             ka(g)
         ta(s)
         oa(m.start())
+    end = offs[-1] + len(texts[-1]) if offs else 0   # just after the last token
     ka("eof")
     ta("")
-    oa(len(src.text))
+    oa(end)
     return kinds, texts, offs

@@ -44,7 +44,7 @@ class SymbolTable:
         k0, a0, src0, off0 = e
         where = src0.span(off0)
         if k0 != kind:
-            what = "both a function and a predicate"
+            what = "as both a function and a predicate"
         else:
             what = "with two arities"
         return src.error(

@@ -1,0 +1,243 @@
+"""Every bad input gets a message in plain words with file:line:col, the line
+and a caret, and the command line exits 1 without a traceback."""
+
+from pathlib import Path
+
+import pytest
+
+from service.cli import main as cli_main
+from worker.syntax import (MAX_DEPTH, InputError, LimitError, bundle_reader,
+                           load_problem, parse_text, require_conjecture)
+
+DATA = Path(__file__).parent / "data" / "syntax"
+
+
+def error_of(text, name="x.nj", **kw) -> InputError:
+    with pytest.raises(InputError) as e:
+        parse_text(text, name=name, **kw)
+    return e.value
+
+
+def where(e: InputError):
+    return (e.span.line, e.span.col)
+
+
+def caret_col(e: InputError) -> int:
+    """The column the caret of the rendered message points at."""
+    lines = e.render().splitlines()
+    caret = next(l for l in lines[2:] if l.strip() == "^")
+    return len(caret) - len("    ")
+
+
+# (text, expected words in the message, line, col)
+CASES = [
+    ("axiom a: p @ q", "unknown character '@'", 1, 12),
+    ("axiom a: (p and q", "unbalanced brackets: expected ')' to close the '(' at line 1, "
+     "column 10", 1, 18),
+    ("axiom a: p and q)", "unbalanced brackets: this ')' has no matching '('", 1, 17),
+    ("axiom a: p and", "missing operand: expected a formula after 'and'", 1, 15),
+    ("axiom a: p and\naxiom b: q", "missing operand: expected a formula after 'and', "
+     "found the keyword 'axiom'", 2, 1),
+    ("axiom a: a = ", "missing operand: expected a term after '='", 1, 13),
+    ("axoim a: p", "unknown keyword 'axoim'; did you mean 'axiom'?", 1, 1),
+    ("axiom a: p\nconjecure c: q", "unknown keyword 'conjecure'; did you mean 'conjecture'?",
+     2, 1),
+    ("axiom a: foral x. p(x)", "did you mean 'forall'?", 1, 10),
+    ("axiom a: p adn q", "unknown connective 'adn'; did you mean 'and'?", 1, 12),
+    ("axiom a: p(a) and p(a, b)", "'p' is used here as a predicate of 2 arguments, but at "
+     "x.nj:1:10 as a predicate of 1 argument", 1, 19),
+    ("axiom a: f(a) = b\naxiom b: f(c)", "as both a function and a predicate", 2, 10),
+    ("axiom a: forall f. f(a)", "a variable cannot be applied to arguments", 1, 20),
+    ("axiom a: forall x. x", "the variable 'x' stands for an individual", 1, 20),
+    ("axiom a: x * y", "a formula is expected", 1, 12),
+    ("axiom a: p\naxiom a: q", "duplicate statement name 'a': it already names the "
+     "statement at x.nj:1:1", 2, 1),
+    ("axiom a: p iff q iff r", "'iff' is not associative", 1, 18),
+    ("axiom a: a = b = c", "equations cannot be chained", 1, 16),
+    ("axiom a p", "expected ':' after the statement name 'a'", 1, 9),
+    ("axiom and: p", "'and' is a reserved word", 1, 7),
+    ("axiom a: forall x: p(x)", "expected '.' after the variables of 'forall'", 1, 18),
+    ("axiom a: f() = a", "empty argument list", 1, 12),
+    ("axiom a: p 'open", "unterminated quote", 1, 12),
+    ("", "the file is empty", 1, 1),
+    ("# nothing here\n", "without statements", 1, 1),
+]
+
+
+@pytest.mark.parametrize("text,words,line,col", CASES)
+def test_native_error_messages(text, words, line, col):
+    e = error_of(text)
+    assert words in e.message
+    assert where(e) == (line, col)
+    rendered = e.render()
+    assert rendered.startswith(f"x.nj:{line}:{col}: error: ")
+    assert caret_col(e) == col
+
+
+TPTP_CASES = [
+    ("fof(a, axoim, p).", "unknown role 'axoim'; did you mean 'axiom'?", 1, 8),
+    ("foff(a, axiom, p).", "unknown kind of statement 'foff'; did you mean 'fof'?", 1, 1),
+    ("fof(a, axiom, p(X)).", "the variable 'X' is not bound", 1, 17),
+    ("fof(a, axiom, (p & q).", "unbalanced brackets", 1, 22),
+    ("fof(a, axiom, p & ).", "missing operand", 1, 19),
+    ("fof(a, axiom, p(a) & p(a,b)).", "with two arities", 1, 22),
+    ("fof(a, axiom, p).\ntff(b, axiom, p).", "typed TPTP dialect 'tff' is not supported", 2, 1),
+    ("fof(a, axiom, $less(a, b)).", "'$less' is not supported", 1, 15),
+    ("fof(a, axiom, p).\n/* open", "unterminated comment", 2, 1),
+    ("fof(a, axiom, p & q | r).", "needs parentheses", 1, 21),
+    ("fof(a, axiom, p).\nfof(a, axiom, q).", "duplicate statement name 'a'", 2, 1),
+]
+
+
+@pytest.mark.parametrize("text,words,line,col", TPTP_CASES)
+def test_tptp_error_messages(text, words, line, col):
+    e = error_of(text, name="x.p")
+    assert words in e.message
+    assert where(e) == (line, col)
+    assert e.render().startswith(f"x.p:{line}:{col}: error: ")
+
+
+def test_missing_include_names_the_include():
+    read = bundle_reader({"m.nj": 'axiom a: p\ninclude "nothere.nj"\n'})
+    with pytest.raises(InputError) as e:
+        load_problem("m.nj", read)
+    assert "include file 'nothere.nj' not found" in e.value.message
+    assert (e.value.span.file, *where(e.value)) == ("m.nj", 2, 9)
+
+
+def test_include_cycle_names_the_chain():
+    with pytest.raises(InputError) as e:
+        load_problem(str(DATA / "cycle" / "a.nj"))
+    assert "include cycle" in e.value.message
+
+
+def test_arity_clash_across_files_names_the_first_use():
+    read = bundle_reader({"m.nj": 'include "lib.nj"\naxiom a: q(b, c)\n',
+                          "lib.nj": "axiom l: q(b)\n"})
+    with pytest.raises(InputError) as e:
+        load_problem("m.nj", read)
+    assert "but at lib.nj:1:10 as a predicate of 1 argument" in e.value.message
+    assert e.value.span.file == "m.nj"
+
+
+def test_require_conjecture():
+    p = parse_text("axiom a: p", name="x.nj")
+    with pytest.raises(InputError) as e:
+        require_conjecture(p)
+    assert "has no conjecture" in e.value.message and e.value.span.file == "x.nj"
+    require_conjecture(parse_text("conjecture c: p"))   # fine
+
+
+@pytest.mark.parametrize("build", [
+    lambda n: "axiom a: " + "(" * n + "p" + ")" * n,
+    lambda n: "axiom a: " + "not " * n + "p",
+    lambda n: "axiom a: " + "p -> " * n + "p",
+    lambda n: "axiom a: " + "forall x. " * n + "p(x)",
+    lambda n: "axiom a: p(" + "f(" * n + "c" + ")" * n + ")",
+    lambda n: "axiom a: c = " + " + ".join(["c"] * n),
+    lambda n: "fof(a, axiom, " + "(" * n + "p" + ")" * n + ").",
+    lambda n: "fof(a, axiom, " + "~ " * n + "p).",
+    lambda n: "fof(a, axiom, p(" + "f(" * n + "c" + ")" * n + ")).",
+])
+def test_deep_nesting_is_refused_with_the_limit(build):
+    with pytest.raises(LimitError) as e:
+        parse_text(build(100_000))
+    assert "nested too deeply" in e.value.message and f"{MAX_DEPTH:,}" in e.value.message
+
+
+def test_nesting_just_under_the_limit_is_read_and_printed():
+    from worker.syntax.printer import format_problem
+    n = MAX_DEPTH - 10
+    for text in ["(" * n + "p(c)" + ")" * n,
+                 "p(" + "f(" * n + "c" + ")" * (n + 1),
+                 "c = " + " + ".join(["c"] * n),
+                 "not " * n + "p",
+                 "p -> " * n + "p",
+                 "forall x. " * n + "p(x)"]:
+        p = parse_text("axiom a: " + text)
+        q = parse_text(format_problem(p))
+        assert q.statements[0].same_as(p.statements[0])
+
+
+def test_long_flat_formulas_are_fine():
+    p = parse_text("axiom a: " + " and ".join(f"p{i}" for i in range(100_000)))
+    assert len(p.statements[0].formula.args) == 100_000
+
+
+def test_a_50_mb_file_is_refused_with_the_limit(tmp_path):
+    big = tmp_path / "big.nj"
+    with open(big, "w") as fh:
+        line = "axiom a: p\n" * 1000
+        for _ in range(50_000_000 // len(line) + 1):
+            fh.write(line)
+    with pytest.raises(LimitError) as e:
+        load_problem(str(big))
+    assert "20,000,000" in e.value.message and "20 MB" in e.value.message
+    e2 = error_of("axiom a: p\n" * 2_000_000)
+    assert isinstance(e2, LimitError)
+
+
+def test_bundle_limit():
+    part = "# " + "x" * 16_500_000 + "\n"      # 16.5 MB each, under the file limit
+    files = {"m.nj": "".join(f'include "f{i}.nj"\n' for i in range(4))}
+    for i in range(4):
+        files[f"f{i}.nj"] = part
+    with pytest.raises(LimitError, match="50 MB"):
+        load_problem("m.nj", bundle_reader(files))
+
+
+# ------------------------------------------------------ the command line
+
+def run(argv, capsys):
+    code = cli_main(argv)
+    out, err = capsys.readouterr()
+    assert "Traceback" not in out + err
+    return code, out, err
+
+
+@pytest.mark.parametrize("text,words", [
+    ("axoim a: p\n", "did you mean 'axiom'?"),
+    ("axiom a: (p\n", "unbalanced brackets"),
+    ("axiom a: p and\n", "missing operand"),
+    ("axiom a: p(a) and p\n", "two arities"),
+    ("axiom a: p ? q\n", "unknown character"),
+    ("", "the file is empty"),
+])
+def test_cli_exit_code_1_with_location(tmp_path, capsys, text, words):
+    f = tmp_path / "bad.nj"
+    f.write_text(text)
+    code, out, err = run(["check", str(f)], capsys)
+    assert code == 1
+    assert words in err and f"{f}:1:" in err and "^" in err
+
+
+def test_cli_missing_file_and_include(tmp_path, capsys):
+    code, out, err = run(["check", str(tmp_path / "none.nj")], capsys)
+    assert code == 1 and "no such file" in err
+    f = tmp_path / "m.nj"
+    f.write_text('include "gone.nj"\n')
+    code, out, err = run(["check", str(f)], capsys)
+    assert code == 1 and f"{f}:1:9: error: include file 'gone.nj' not found" in err
+
+
+def test_cli_cycle_and_require_conjecture(tmp_path, capsys):
+    code, out, err = run(["check", str(DATA / "cycle" / "a.nj")], capsys)
+    assert code == 1 and "include cycle" in err
+    f = tmp_path / "noconj.nj"
+    f.write_text("axiom a: p\n")
+    assert run(["check", str(f)], capsys)[0] == 0
+    code, out, err = run(["check", "--require-conjecture", str(f)], capsys)
+    assert code == 1 and "has no conjecture" in err
+
+
+def test_cli_deep_nesting_is_an_input_error(tmp_path, capsys):
+    f = tmp_path / "deep.nj"
+    f.write_text("axiom a: " + "(" * 100_000 + "p" + ")" * 100_000 + "\n")
+    code, out, err = run(["check", str(f)], capsys)
+    assert code == 1 and "nested too deeply" in err
+
+
+def test_cli_usage_error_is_exit_2(capsys):
+    with pytest.raises(SystemExit) as e:
+        cli_main(["check", "--language", "klingon", "x.nj"])
+    assert e.value.code == 2
