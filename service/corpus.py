@@ -714,7 +714,7 @@ def create_run(store, corpus: CorpusStore, dispatcher, owner: str, body: dict, *
     guard_reuse = {} if sub["full"] else plan_guard_reuse(guard_ok, previous, store)
     jobs = [{"file": GUARD_FILE, "conjecture": None, "bundle": g["bundle"],
              "time_limit": sub["axiom_check_time"], "reuse_key": None} for g in guard_ok]
-    jobs += [{"file": ob["key"].split("#", 1)[0], "conjecture": ob["conjecture"],
+    jobs += [{"file": ob["file"], "conjecture": ob["conjecture"],
               "bundle": ob["bundle"], "time_limit": sub["time_limit"], "reuse_key": None}
              for ob in obligations]
     if len(jobs) > max_jobs:
