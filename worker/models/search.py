@@ -60,8 +60,8 @@ class _Sat:
                 r = s.solve_limited(assumptions=assumptions, expect_interrupt=True)
             finally:
                 timer.cancel()
-            if r is None:
-                s.clear_interrupt()
+                timer.join()
+                s.clear_interrupt()     # a late interrupt must not stop the next call
             return r
         budget = 500
         while True:
