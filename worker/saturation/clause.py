@@ -16,7 +16,7 @@ from worker.syntax.terms import EQ
 class Clause:
     __slots__ = ("id", "lits", "nvars", "weight", "conj", "rule", "parents",
                  "info", "alive", "active", "sel", "elig", "maxl", "key",
-                 "source", "role", "feat")
+                 "source", "role", "feat", "sfeat")
 
     def __init__(self, cid: int, lits: tuple, nvars: int, rule: str,
                  parents: tuple = (), info: dict | None = None,
@@ -36,6 +36,7 @@ class Clause:
             k = (sg, a if type(a) is str else a[0])
             feat[k] = feat.get(k, 0) + 1
         self.feat = feat       # feature vector: literal count per (sign, predicate)
+        self.sfeat = None      # symbol occurrences per (sign, symbol), computed on demand
         self.sel = ()          # selected literal indexes (set at activation)
         self.elig = ()         # literal indexes eligible for inferences
         self.maxl = ()         # maximal literal indexes
@@ -92,11 +93,37 @@ def is_equation(atom) -> bool:
     return type(atom) is tuple and atom[0] == EQ
 
 
+def symbol_features(c: "Clause") -> dict:
+    f = c.sfeat
+    if f is None:
+        f = {}
+        for sg, a in c.lits:
+            stack = [a]
+            while stack:
+                x = stack.pop()
+                tx = type(x)
+                if tx is str:
+                    k = (sg, x)
+                    f[k] = f.get(k, 0) + 1
+                elif tx is tuple:
+                    k = (sg, x[0])
+                    f[k] = f.get(k, 0) + 1
+                    stack.extend(x[1:])
+        c.sfeat = f
+    return f
+
+
 def may_subsume(c: "Clause", d: "Clause") -> bool:
     """Feature-vector filter: ``c`` can subsume ``d`` only if ``d`` has at
-    least as many literals of each sign and predicate."""
+    least as many literals of each sign and predicate, and at least as many
+    occurrences of each symbol in literals of each sign (an instance only
+    adds symbols)."""
     fd = d.feat
     for k, n in c.feat.items():
+        if fd.get(k, 0) < n:
+            return False
+    fd = symbol_features(d)
+    for k, n in symbol_features(c).items():
         if fd.get(k, 0) < n:
             return False
     return True
