@@ -410,3 +410,56 @@ def test_bad_submissions_are_refused_before_anything_is_stored(env, tmp_path):
     assert env.r.keys("nj:corpus:*") == [] and env.r.keys("nj:job:*") == []
     assert env.c.get("/api/corpus/runs/rnope", headers=env.h).status_code == 404
     assert env.c.post("/api/corpus/runs", json=body).status_code == 401
+
+
+SLOW_AXIOMS = """\
+axiom assoc: forall x y z. (x * y) * z = x * (y * z)
+axiom unit: forall x. e * x = x
+axiom inv: forall x. i(x) * x = e
+axiom inj: forall x y. s(x) = s(y) implies x = y
+axiom notz: forall x. s(x) != e
+axiom lamp: lit(a)
+"""
+
+
+def test_axiom_edit_gives_lost_and_gained_lines(env, tmp_path):
+    """Without commutativity the group conjecture has no proof, and (the
+    successor is injective and misses e) no finite countermodel: it runs to
+    its time limit.  Removing the axiom loses it; putting it back gains it."""
+    files = {
+        "suite.toml": MANIFEST.replace('name = "paths"', 'name = "groups"')
+                              .replace("time_limit = 5", "time_limit = 1")
+                              .replace("axiom_check_time = 2", "axiom_check_time = 0.5")
+                              .split("[expectations]")[0],
+        "ax/group.nj": SLOW_AXIOMS + "axiom comm: forall x y. x * y = y * x\n",
+        "goals/g.nj": "conjecture commutes: forall x y. x * y = y * x\n"
+                      "conjecture lamp_lit: lit(a)\n",
+    }
+    for name, text in files.items():
+        (tmp_path / name).parent.mkdir(parents=True, exist_ok=True)
+        (tmp_path / name).write_text(text)
+    _, v1 = env.run_suite(tmp_path)
+    assert {k: r["verdict"] for k, r in rows(v1).items()} == {
+        "commutes": "Theorem", "lamp_lit": "Theorem"}
+
+    (tmp_path / "ax/group.nj").write_text(SLOW_AXIOMS)            # comm removed
+    _, v2 = env.run_suite(tmp_path)
+    r = rows(v2)
+    assert r["commutes"]["verdict"] == "Timeout" and not r["commutes"]["reused"]
+    assert r["lamp_lit"]["reused"]
+    d = v2["diff"]
+    assert [(x["key"], x["before"], x["after"]) for x in d["lost"]] == [
+        ("goals/g.nj#commutes", "Theorem", "Timeout")]
+    assert d["gained"] == [] and d["flipped"] == [] and d["regression"]
+    assert cli_corpus.exit_code(v2["summary"]) == 5
+    assert "lost        goals/g.nj#commutes" in cli_corpus.diff_text(d)
+
+    (tmp_path / "ax/group.nj").write_text(SLOW_AXIOMS + "axiom comm: forall x y. x * y = y * x\n")
+    _, v3 = env.run_suite(tmp_path)
+    d = v3["diff"]
+    assert [(x["key"], x["before"], x["after"]) for x in d["gained"]] == [
+        ("goals/g.nj#commutes", "Timeout", "Theorem")]
+    assert d["lost"] == [] and not d["regression"]
+    assert cli_corpus.exit_code(v3["summary"]) == 0
+    # only infinite models: the consistency check can neither refute nor satisfy
+    assert v3["summary"]["axioms_consistent"] is None
