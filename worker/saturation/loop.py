@@ -30,6 +30,12 @@ from .strategy import Strategy
 from .unify import match, unify, instantiate
 
 
+# Subsumption resolution uses active clauses of at most this many literals:
+# longer ones rarely cut and cost most of the matching (measured on
+# Pelletier 53, see DEVELOPERS.md).
+CUT_MAX_LITS = 3
+
+
 class LimitReached(Exception):
     def __init__(self, kind: str):
         super().__init__(kind)
@@ -94,6 +100,7 @@ class Saturation:
         self.next_id = 1
         self.max_vars = 0
         self.irreducible: set = set()   # terms no active unit equation rewrites
+        self.cut_max = CUT_MAX_LITS
         self.wheap: list = []
         self.aheap: list = []
         self.picks = 0
@@ -348,6 +355,8 @@ class Saturation:
                     continue
             return a, side, pos, m
         if not blocked:
+            if len(self.irreducible) > 200_000:
+                self.irreducible.clear()
             self.irreducible.add(t)
         return None
 
@@ -386,7 +395,7 @@ class Saturation:
             for sg in (not sign, sign):
                 for _t, (d, _k) in self.subkey[sg].generalizations(atom):
                     self.check()
-                    if d.id in seen or len(d.lits) > n:
+                    if d.id in seen or len(d.lits) > n or len(d.lits) > self.cut_max:
                         continue
                     seen.add(d.id)
                     if not may_cut(d, c):
