@@ -6,8 +6,8 @@ size, and the SAT solver comparison behind the default choice.
     .venv/bin/python benchmarks/models_bench.py --solvers cadical195,glucose4
 
 The set: our own problems below (facts of common practice, sizes from
-standard algebra) plus every problem a corpus suite (corpus/**/suite.toml)
-expects to be CounterSatisfiable.  Each model found is checked by the
+standard algebra) plus every obligation a corpus suite (corpus/**/suite*.toml) expects to be
+CounterSatisfiable, read with the suite's axioms.  Each model found is checked by the
 independent evaluator (worker.certify.evaluate).
 """
 
@@ -27,7 +27,7 @@ sys.path.insert(0, ROOT)
 from worker.certify.evaluate import check_model          # noqa: E402
 from worker.clausify import clausify                     # noqa: E402
 from worker.models.search import ModelSearch             # noqa: E402
-from worker.syntax import disk_reader, load_problem, parse_text  # noqa: E402
+from worker.syntax import parse_text  # noqa: E402
 
 GROUP = """
 axiom assoc: forall x y z. (x * y) * z = x * (y * z)
@@ -83,21 +83,19 @@ OWN = [
 
 
 def corpus_cases():
+    """(label, Problem, conjecture) of every obligation a corpus suite expects
+    to be CounterSatisfiable or Satisfiable (suite axioms included)."""
+    from service.corpus import load_suite, obligation_key
     out = []
     for manifest in sorted(glob.glob(os.path.join(ROOT, "corpus", "**", "suite*.toml"),
                                      recursive=True)):
-        with open(manifest, "rb") as fh:
-            data = tomllib.load(fh)
-        base = os.path.dirname(manifest)
-        for key, status in (data.get("expectations") or {}).items():
-            if status not in ("CounterSatisfiable", "Satisfiable"):
-                continue
-            fname, _, conj = key.partition("#")
-            path = os.path.join(base, fname)
-            if not os.path.exists(path):
-                continue
-            out.append((os.path.relpath(path, ROOT) + (f"#{conj}" if conj else ""),
-                        path, conj or None))
+        suite = load_suite(manifest)
+        for sp in suite.problems:
+            for c in sp.obligations:
+                key = obligation_key(sp.file, c)
+                if suite.expectations.get(key) in ("CounterSatisfiable", "Satisfiable"):
+                    label = os.path.relpath(manifest, os.path.join(ROOT, "corpus"))
+                    out.append((f"{os.path.dirname(label)}/{key}", sp.problem, c))
     return out
 
 
@@ -120,11 +118,7 @@ def bench_set(max_size, budget, solver):
     print(f"{'problem':52} {'found':>5} {'size':>4} {'expect':>6} {'cpu s':>8}  checked")
     times, rows = [], []
     cases = [(n, parse_text(t, n + ".nj"), c, exp) for n, t, c, exp, _src in OWN]
-    for label, path, conj in corpus_cases():
-        p = load_problem(path, disk_reader())
-        if conj is None:
-            cs = p.obligations()
-            conj = cs[0]
+    for label, p, conj in corpus_cases():
         cases.append((label, p, conj, "?"))
     for label, p, conj, exp in cases:
         model, secs, ok, s = run_one(p, conj, max_size, budget, solver)

@@ -406,3 +406,36 @@ def test_incremental_sizes_agree_with_brute_force(seed):
     for n in (1, 2, 3):
         has = _brute_force_has_model(clauses, funs, preds, n)
         assert (n in found) == has and (n in s.sizes_excluded) == (not has), (n, clauses)
+
+
+@needs_front
+def test_corpus_expectations_agree_with_the_search():
+    # Every obligation of the shipped suites: those expected CounterSatisfiable
+    # (or Satisfiable) get a model the evaluator accepts; those expected
+    # Theorem (or Unsatisfiable, ContradictoryAxioms) never get one.
+    import glob
+    try:
+        from service.corpus import load_suite, obligation_key
+    except ImportError:
+        pytest.skip("suites not available")
+    import os
+    root = os.path.dirname(os.path.dirname(os.path.abspath(__file__)))
+    manifests = sorted(glob.glob(os.path.join(root, "corpus", "**", "suite*.toml"), recursive=True))
+    if not manifests:
+        pytest.skip("no suites")
+    models = 0
+    for manifest in manifests:
+        suite = load_suite(manifest)
+        for sp in suite.problems:
+            for c in sp.obligations:
+                want = suite.expectations.get(obligation_key(sp.file, c))
+                refuted = want in ("CounterSatisfiable", "Satisfiable")
+                s = ModelSearch(clausify(sp.problem, c), max_size=6 if refuted else 4)
+                m = s.run(time.monotonic() + 2.0)
+                if want in ("Theorem", "Unsatisfiable", "ContradictoryAxioms"):
+                    assert m is None, (manifest, sp.file, c, m)
+                elif want in ("CounterSatisfiable", "Satisfiable"):
+                    assert m is not None, (manifest, sp.file, c, s.reason)
+                    assert check_model(m, sp.problem, c).ok
+                    models += 1
+    assert models > 0
