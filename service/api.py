@@ -323,8 +323,7 @@ def _cancel_one(jid, rec=None):
     s = svc()
     was = s.store.cancel(jid)
     if was == "running":
-        rec = rec or s.store.get_job(jid)
-        s.dispatcher.stop(jid, int(rec.get("attempts") or 1))
+        s.dispatcher.stop(jid)
     now = s.store.get_job(jid)
     return {"id": jid, "state": now["state"], "was": was or now["state"],
             "cancelled": was is not None}

@@ -78,7 +78,10 @@ def cmd_worker(args) -> int:
         print("nightjar: no Redis to work for: give --redis URL or set NIGHTJAR_REDIS_URL "
               "(or start the embedded service with: nightjar serve)", file=sys.stderr)
         return EXIT_NO_SERVICE
+    import faulthandler
     import logging
+    import signal
+    faulthandler.register(signal.SIGUSR1)     # kill -USR1 <pid>: print every stack
     logging.basicConfig(level=logging.WARNING, format="%(asctime)s %(name)s: %(message)s")
     return run_worker(url, Config.from_env(), burst=args.burst)
 

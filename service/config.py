@@ -42,6 +42,8 @@ class Config:
     heartbeat_seconds: float = 2.0        # a running job says it is alive this often
     alive_ttl: float = 12.0               # ... and is taken for lost after this long
     max_attempts: int = 2                 # one retry after a lost worker
+    sweep_seconds: float = 3.0            # how often the sweeper looks for lost jobs
+    stranded_seconds: float = 30.0        # a queued job whose RQ entry is gone this long is sent again
 
     @classmethod
     def from_env(cls, **over) -> "Config":

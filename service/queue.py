@@ -33,8 +33,10 @@ def connect(url: str) -> redis.Redis:
                                 socket_connect_timeout=5, health_check_interval=10)
 
 
-def rq_id(job_id: str, attempt: int) -> str:
-    return f"{job_id}-{attempt}"
+def rq_id(job_id: str, attempt: int, redispatch: int = 0) -> str:
+    """The RQ job id of an attempt: ``<job>-<attempt>``, with ``r<n>`` added
+    when a stranded queue entry had to be sent again."""
+    return f"{job_id}-{attempt}" + (f"r{redispatch}" if redispatch else "")
 
 
 class Dispatcher:
@@ -46,21 +48,27 @@ class Dispatcher:
         self.queues = {name: Queue(name, connection=r) for name in QUEUES}
 
     def enqueue(self, pipe, job_id: str, time_limit: float,
-                queue_name: str | None = None, attempts_done: int = 0) -> None:
+                queue_name: str | None = None, attempts_done: int = 0,
+                redispatch: int = 0) -> None:
         """Add the RQ enqueue of the next attempt to ``pipe`` (a MULTI
         pipeline of the same connection), so record and queue entry commit
-        together."""
+        together.  The RQ id goes into the job record (field ``rq``)."""
         q = self.queues[queue_name or QUEUE_BATCH]
+        rid = rq_id(job_id, attempts_done + 1, redispatch)
         q.enqueue_call("worker.jobs.attempt", args=(job_id,),
                        timeout=int(time_limit + self.config.grace_seconds) + 1,
-                       job_id=rq_id(job_id, attempts_done + 1),
-                       result_ttl=RQ_RESULT_TTL, failure_ttl=RQ_FAILURE_TTL,
+                       job_id=rid, result_ttl=RQ_RESULT_TTL, failure_ttl=RQ_FAILURE_TTL,
                        description=f"nightjar job {job_id}", pipeline=pipe)
+        pipe.hset(Store.k_job(job_id), "rq", rid)
+        pipe.zadd(Store.K_QUEUED, {job_id: time.time()})
 
-    def stop(self, job_id: str, attempts: int) -> bool:
+    def stop(self, job_id: str) -> bool:
         """Ask the worker running ``job_id`` to kill its work horse."""
+        rid = self.r.hget(Store.k_job(job_id), "rq")
+        if not rid:
+            return False
         try:
-            send_stop_job_command(self.r, rq_id(job_id, attempts))
+            send_stop_job_command(self.r, rid.decode())
             return True
         except Exception as e:  # not running any more, or RQ lost it: fine
             log.info("stop %s: %s", job_id, e)
@@ -95,21 +103,56 @@ def sweep(store: Store, dispatcher: Dispatcher, config: Config) -> list[tuple[st
     return out
 
 
+def sweep_stranded(store: Store, dispatcher: Dispatcher, min_age: float = 30.0) -> list[str]:
+    """Send again the jobs our records have held as queued for ``min_age``
+    seconds whose RQ entry is no longer on its queue (RQ took it but no
+    attempt started: the worker died in between, or Redis restarted under
+    it).  Sending one twice is harmless: only one attempt can take a job.
+    Returns the ids sent again."""
+    r = store.r
+    ids = [x.decode() for x in r.zrangebyscore(store.K_QUEUED, 0, time.time() - min_age)]
+    if not ids:
+        return []
+    pipe = r.pipeline(transaction=False)
+    for jid in ids:
+        pipe.hmget(store.k_job(jid), ["state", "rq"])
+    recs = pipe.execute()
+    waiting = set()
+    for q in dispatcher.queues.values():
+        waiting.update(r.lrange(q.key, 0, -1))
+    out = []
+    for jid, (st, rid) in zip(ids, recs):
+        if st != b"queued":
+            r.zrem(store.K_QUEUED, jid)          # settled or started: not ours to mind
+            continue
+        if rid in waiting:
+            continue
+        if store.redispatch(jid, dispatcher.enqueue):
+            out.append(jid)
+    return out
+
+
 class Sweeper(threading.Thread):
     """Runs :func:`sweep` every few seconds in the background."""
 
-    def __init__(self, url: str, config: Config, every: float = 3.0):
+    def __init__(self, url: str, config: Config, every: float | None = None):
         super().__init__(name="nightjar-sweeper", daemon=True)
-        self.url, self.config, self.every = url, config, every
+        self.url, self.config = url, config
+        self.every = every or config.sweep_seconds
         self.halt = threading.Event()
 
     def run(self):
         r = connect(self.url)
         store, disp = Store(r), Dispatcher(r, self.config)
+        last_stranded = 0.0
         while not self.halt.wait(self.every):
             try:
                 for jid, what in sweep(store, disp, self.config):
                     log.warning("sweeper: job %s %s", jid, what)
+                if time.monotonic() - last_stranded > self.config.stranded_seconds / 3:
+                    last_stranded = time.monotonic()
+                    for jid in sweep_stranded(store, disp, self.config.stranded_seconds):
+                        log.warning("sweeper: job %s sent again (its queue entry was lost)", jid)
             except redis.RedisError as e:
                 log.info("sweeper: redis not answering (%s)", e)
             except Exception:  # never let the sweeper die
@@ -156,12 +199,28 @@ def run_worker(url: str, config: Config, *, burst: bool = False,
         while True:
             r = connect(url)
             try:
+                r.ping()
+                wait = 1.0               # Redis answers: back to a short pause
                 w = Worker([Queue(n, connection=r) for n in QUEUES], connection=r,
                            name=worker_name())
                 w.work(burst=burst, logging_level=log_level, with_scheduler=False)
-                return 0
+                if burst or getattr(w, "_stop_requested", False):
+                    return 0
+                # RQ leaves its loop (without raising) on an error such as
+                # Redis restarting under it: start a fresh worker.
+                log.warning("worker: the RQ loop ended without a stop request; "
+                            "starting again in %.0fs", wait)
+                time.sleep(wait)
+                wait = min(wait * 2, 10.0)
+                continue
             except (redis.ConnectionError, redis.TimeoutError) as e:
                 log.warning("worker: redis not answering (%s); retrying in %.0fs", e, wait)
+                time.sleep(wait)
+                wait = min(wait * 2, 10.0)
+            except Exception:
+                # RQ's bookkeeping can fail half-way when Redis restarts under
+                # it; our records are guarded, so start a fresh RQ worker.
+                log.exception("worker: restarting after an error")
                 time.sleep(wait)
                 wait = min(wait * 2, 10.0)
     finally:
@@ -169,5 +228,5 @@ def run_worker(url: str, config: Config, *, burst: bool = False,
             sw.halt.set()
 
 
-__all__ = ["connect", "Dispatcher", "sweep", "Sweeper", "run_worker", "rq_id",
+__all__ = ["connect", "Dispatcher", "sweep", "sweep_stranded", "Sweeper", "run_worker", "rq_id",
            "QUEUE_INTERACTIVE", "QUEUE_BATCH", "QUEUES"]

@@ -70,10 +70,10 @@ def job_record(h: dict) -> dict:
     if d.get("conjecture") == "":
         d["conjecture"] = None
     for f in ("verdict", "strategy", "worker", "started", "finished", "seconds",
-              "reason", "label", "reused_from"):
+              "reason", "label", "reused_from", "lost"):
         d.setdefault(f, None)
-    d.pop("problem", None)
-    d.pop("reuse_key", None)
+    for f in ("problem", "reuse_key", "rq", "redispatched"):
+        d.pop(f, None)
     return d
 
 
@@ -107,6 +107,7 @@ class Store:
     @staticmethod
     def k_reuse(owner, key): return f"{P}reuse:{owner}:{key}"
     K_RUNNING = f"{P}running"
+    K_QUEUED = f"{P}queued"          # zset: job id -> when it was (last) queued
     K_TOKENS = f"{P}tokens"          # hash: token name -> sha256 of the token
     @staticmethod
     def k_token(sha): return f"{P}token:{sha}"
@@ -326,6 +327,7 @@ class Store:
                                                 "started": str(now)})
             pipe.hincrby(self.k_job(jid), "attempts", 1)
             pipe.sadd(self.K_RUNNING, jid)
+            pipe.zrem(self.K_QUEUED, jid)
             pipe.set(self.k_alive(jid), worker, px=int(alive_ttl * 1000))
 
         rec = self._transition(jid, lambda r: r["state"] == "queued", change)
@@ -388,6 +390,7 @@ class Store:
             pipe.hset(self.k_job(jid), mapping={"state": "failed", "reason": reason,
                                                 "finished": str(now)})
             pipe.srem(self.K_RUNNING, jid)
+            pipe.zrem(self.K_QUEUED, jid)
             pipe.delete(self.k_alive(jid))
 
         return self._transition(jid, check, change) is not None
@@ -397,13 +400,24 @@ class Store:
         def change(pipe, rec):
             self._move(pipe, rec, "queued")
             pipe.hset(self.k_job(jid), mapping={"state": "queued",
-                                                "reason": reason})
+                                                "reason": reason, "lost": reason})
             pipe.srem(self.K_RUNNING, jid)
             pipe.delete(self.k_alive(jid))
             enqueue(pipe, jid, float(rec["time_limit"]), rec.get("queue"),
                     int(rec.get("attempts") or 0))
 
         return self._transition(jid, lambda r: r["state"] == "running", change) is not None
+
+    def redispatch(self, jid: str, enqueue) -> bool:
+        """Queue a still-queued job again under a fresh RQ id (its first
+        queue entry was lost); no attempt is counted."""
+        def change(pipe, rec):
+            n = int(rec.get("redispatched") or 0) + 1
+            pipe.hset(self.k_job(jid), "redispatched", str(n))
+            enqueue(pipe, jid, float(rec["time_limit"]), rec.get("queue"),
+                    int(rec.get("attempts") or 0), n)
+
+        return self._transition(jid, lambda r: r["state"] == "queued", change) is not None
 
     def cancel(self, jid: str) -> str | None:
         """queued/running -> cancelled.  Returns the state it had, or None if it
@@ -416,6 +430,7 @@ class Store:
                                                 "reason": "cancelled by its owner",
                                                 "finished": str(now)})
             pipe.srem(self.K_RUNNING, jid)
+            pipe.zrem(self.K_QUEUED, jid)
             pipe.delete(self.k_alive(jid))
 
         rec = self._transition(jid, lambda r: r["state"] in ("queued", "running"), change)

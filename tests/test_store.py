@@ -135,3 +135,23 @@ def test_filter_counts_match(st):
     assert store.batch_jobs(bid, state="queued")[0] == 2
     n, page = store.batch_jobs(bid, offset=1, limit=2)
     assert n == 5 and [j["id"] for j in page] == ids[1:3]
+
+
+def test_stranded_queue_entry_is_sent_again(st):
+    from service.queue import sweep_stranded
+    store, disp = st
+    _, (a, b) = make(st)
+    assert sweep_stranded(store, disp, min_age=0) == []        # both still waiting in RQ
+    # RQ took a's entry (status started) but no attempt ever began
+    store.r.hset(f"rq:job:{rq_id(a, 1)}", "status", "started")
+    store.r.lrem("rq:queue:nj-batch", 0, rq_id(a, 1))
+    assert sweep_stranded(store, disp, min_age=60) == []       # not old enough yet
+    assert sweep_stranded(store, disp, min_age=0) == [a]
+    assert rq_id(a, 1, 1).encode() in store.r.lrange("rq:queue:nj-batch", 0, -1)
+    j = store.get_job(a)
+    assert j["state"] == "queued" and j["attempts"] == 0
+    # once it starts, the sweeper forgets it
+    store.start_attempt(a, "w", 10)
+    store.r.hset(f"rq:job:{rq_id(a, 1, 1)}", "status", "started")
+    assert sweep_stranded(store, disp, min_age=0) == []
+    assert store.r.zscore(store.K_QUEUED, a) is None

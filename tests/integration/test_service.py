@@ -1,0 +1,185 @@
+"""The service end to end: real Redis, real workers, the real engine."""
+
+from __future__ import annotations
+
+import time
+
+import pytest
+
+from service.client import ApiError
+
+from .conftest import wait_until
+
+# A problem whose search runs to its time limit: the successor function is
+# injective and misses e, so every model is infinite (no finite countermodel),
+# and commutativity does not follow from these group axioms (no proof).
+SLOW = """\
+axiom assoc: forall x y z. (x * y) * z = x * (y * z)
+axiom unit: forall x. e * x = x
+axiom inv: forall x. i(x) * x = e
+axiom inj: forall x y. s(x) = s(y) implies x = y
+axiom notz: forall x. s(x) != e
+conjecture g: forall x y. x * y = y * x
+"""
+
+
+def mixed_problems(n=50):
+    """n problem files, one obligation each, with the verdict each must get
+    (worked out by hand: each is a one- or two-step argument)."""
+    out = []
+    for k in range(n):
+        kind = k % 5
+        if kind == 0:     # modus ponens with a quantifier
+            text = (f"axiom a: forall x. p{k}(x) implies q(x)\naxiom b: p{k}(c{k})\n"
+                    f"conjecture g: q(c{k})\n")
+            want = "Theorem"
+        elif kind == 1:   # equality: f is the identity, so f(f(a)) = a
+            text = f"axiom a: forall x. f{k}(x) = x\nconjecture g: f{k}(f{k}(a)) = a\n"
+            want = "Theorem"
+        elif kind == 2:   # nothing forces q: a one-element model with q false
+            text = f"axiom a: p{k}(c)\nconjecture g: q(c)\n"
+            want = "CounterSatisfiable"
+        elif kind == 3:   # no conjecture, the axioms contradict each other
+            text = f"axiom a: p{k}\naxiom b: p{k} implies r\naxiom c: not r\n"
+            want = "Unsatisfiable"
+        else:             # no conjecture, a model exists
+            text = f"axiom a: p{k} or r\naxiom b: not r\n"
+            want = "Satisfiable"
+        out.append(({"main": f"m{k:02d}.nj", "files": {f"m{k:02d}.nj": text}}, want))
+    return out
+
+
+def owner(api, name="alice"):
+    return api.client(api.store.add_token(name))
+
+
+def test_batch_of_fifty_settles_with_right_verdicts_and_proofs(api, workers):
+    workers.start(2)
+    c = owner(api)
+    probs = mixed_problems(50)
+    sub = c.submit({"problems": [p for p, _ in probs], "time_limit": 10, "label": "mix"})
+    assert len(sub["jobs"]) == 50
+    b = c.wait(sub["batch"], timeout=120)
+    assert b["states"]["done"] == 50
+    jobs = list(c.jobs(sub["batch"]))
+    assert [j["file"] for j in jobs] == [p["main"] for p, _ in probs]
+    assert [j["verdict"] for j in jobs] == [w for _, w in probs]
+    assert b["verdicts"] == {"Theorem": 20, "CounterSatisfiable": 10,
+                             "Unsatisfiable": 10, "Satisfiable": 10}
+    for j in jobs:
+        assert j["attempts"] == 1 and j["worker"] and j["finished"] >= j["started"]
+        if j["verdict"] in ("Theorem", "Unsatisfiable"):
+            p = c.proof(j["id"])
+            assert p["proof"]["steps"][-1]["clause"] == []
+            assert p["text"] and j["certificate"]["kind"] == "proof-replayed"
+        if j["verdict"] == "CounterSatisfiable":
+            m = c.model(j["id"])
+            assert m["model"]["size"] >= 1 and m["text"]
+    # only our own keys and RQ's: proofs are stored compressed in ours
+    assert api.redis.exists(f"nj:result:{jobs[0]['id']}")
+
+
+def test_interactive_jobs_go_before_batch_jobs(api, workers):
+    c = owner(api)
+    bulk = c.submit({"problems": [p for p, _ in mixed_problems(10)]})
+    quick = c.submit({"problem": mixed_problems(1)[0][0]})
+    workers.start(1)
+    c.wait(bulk["batch"], timeout=60)
+    first = c.job(quick["jobs"][0]["id"])
+    started = [j["started"] for j in c.jobs(bulk["batch"])]
+    assert first["started"] < min(started)
+
+
+def test_worker_killed_mid_job_is_retried_and_settles(api, workers):
+    w1, = workers.start(1)
+    c = owner(api)
+    sub = c.submit({"problem": {"main": "slow.nj", "files": {"slow.nj": SLOW}},
+                    "time_limit": 3})
+    jid = sub["jobs"][0]["id"]
+    wait_until(lambda: c.job(jid)["state"] == "running", 20, what="the job to start")
+    time.sleep(0.5)
+    first = c.job(jid)
+    assert first["state"] == "running" and first["attempts"] == 1
+    workers.kill9(w1)
+    workers.start(1)
+    j = wait_until(lambda: (lambda r: r if r["state"] in ("done", "failed") else None)(c.job(jid)),
+                   40, what="the job to settle")
+    assert j["state"] == "done" and j["verdict"] == "Timeout"
+    assert j["attempts"] == 2 and j["worker"] != first["worker"]
+    assert "attempt 1 was lost" in j["lost"] and first["worker"] in j["lost"]
+    assert api.redis.scard("nj:running") == 0
+
+
+def test_cancel_running_job_stops_it(api, workers):
+    workers.start(1)
+    c = owner(api)
+    sub = c.submit({"problem": {"main": "slow.nj", "files": {"slow.nj": SLOW}},
+                    "time_limit": 20})
+    jid = sub["jobs"][0]["id"]
+    wait_until(lambda: c.job(jid)["state"] == "running", 20, what="the job to start")
+    t0 = time.monotonic()
+    r = c.cancel_job(jid)
+    assert r["was"] == "running" and r["state"] == "cancelled"
+    # the worker is free again well before the 20 s limit: a new job settles
+    nxt = c.submit({"problem": mixed_problems(1)[0][0]})
+    b = c.wait(nxt["batch"], timeout=15)
+    assert b["verdicts"] == {"Theorem": 1}
+    assert time.monotonic() - t0 < 15
+    assert c.job(jid)["state"] == "cancelled"
+
+
+def test_redis_restart_mid_batch_loses_nothing(api, workers, redis_server):
+    workers.start(1)
+    c = owner(api)
+    probs = mixed_problems(40)
+    sub = c.submit({"problems": [p for p, _ in probs], "time_limit": 10})
+    wait_until(lambda: c.batch(sub["batch"])["settled"] >= 5, 60, every=0.02,
+               what="a few jobs to settle")
+    assert not c.batch(sub["batch"])["finished"]
+    redis_server.restart()            # SIGTERM, then a new server on the same data
+    try:
+        b = wait_until(lambda: (lambda b: b if b["finished"] else None)(c.batch(sub["batch"])),
+                       60, every=0.3, what="the batch to settle after the restart")
+    except AssertionError:
+        st = api.store
+        stuck = [j for j in st.get_jobs(st.batch_job_ids(sub["batch"])) if j["state"] != "done"]
+        raise AssertionError(f"not settled: {stuck[:3]} rq queue "
+                             f"{api.redis.lrange('rq:queue:nj-batch', 0, -1)[:5]}")
+    assert b["total"] == 40 and b["states"]["done"] == 40
+    jobs = list(c.jobs(sub["batch"]))
+    assert [j["verdict"] for j in jobs] == [w for _, w in probs]
+    for j in jobs:
+        if j["verdict"] == "Theorem":
+            assert c.proof(j["id"])["proof"]["steps"]
+    assert (redis_server.data_dir / "appendonly.aof").exists()
+
+
+def test_second_token_cannot_read_first_ones_jobs(api, workers):
+    workers.start(1)
+    a, b = owner(api, "alice"), owner(api, "bob")
+    sub = a.submit({"problem": mixed_problems(1)[0][0]})
+    a.wait(sub["batch"], timeout=30)
+    jid = sub["jobs"][0]["id"]
+    assert a.proof(jid)["proof"]
+    for call in (lambda: b.job(jid), lambda: b.proof(jid), lambda: b.problem(jid),
+                 lambda: b.batch(sub["batch"]), lambda: b.cancel_job(jid),
+                 lambda: b.cancel_batch(sub["batch"])):
+        with pytest.raises(ApiError) as e:
+            call()
+        assert e.value.status == 404
+    assert b.batches() == []
+
+
+def test_bad_input_is_refused_with_location_and_nothing_kept(api, workers):
+    c = owner(api)
+    before = sorted(api.redis.keys("*"))
+    bad = "axiom a: p(c)\naxiom b: forall x. p(x) implies\nconjecture g: p(c)\n"
+    with pytest.raises(ApiError) as e:
+        c.submit({"problems": [mixed_problems(1)[0][0],
+                               {"main": "bad.nj", "files": {"bad.nj": bad}}]})
+    err = e.value.error
+    assert e.value.status == 400 and err["code"] == "input_error"
+    assert err["file"] == "bad.nj" and err["line"] in (2, 3)
+    assert err["text"].startswith(f"bad.nj:{err['line']}:{err['col']}: error:")
+    assert sorted(api.redis.keys("*")) == before
+    assert api.redis.llen("rq:queue:nj-batch") == 0
