@@ -439,3 +439,62 @@ def test_corpus_expectations_agree_with_the_search():
                     assert check_model(m, sp.problem, c).ok
                     models += 1
     assert models > 0
+
+
+# ------------------------------------------------------------------ enumeration
+
+@needs_front
+def test_group_counts_match_oeis_a000001():
+    # OEIS A000001: numbers of groups of order 1..8 up to isomorphism are
+    # 1, 1, 1, 2, 1, 2, 1, 5.
+    from worker.models.enumerate import enumerate_models
+    p = parse_text(GROUP.replace("conjecture comm: forall x y. x * y = y * x\n", ""), "g.nj")
+    cp = clausify(p, None)
+    counts = []
+    for n in range(1, 9):
+        models = enumerate_models(cp, n, time.monotonic() + 60)
+        assert all(is_group(m) and check_model(m, p, None).ok for m in models)
+        counts.append(len(models))
+    assert counts == [1, 1, 1, 2, 1, 2, 1, 5]
+
+
+def _involutions(model):
+    m, e = table(model, "*"), table(model, "e")[()]
+    return sum(1 for x in range(model["size"]) if x != e and m[x, x] == e)
+
+
+@needs_front
+def test_the_five_groups_of_order_8_are_told_apart():
+    # Standard algebra: Z8, Z4xZ2, Z2^3 are abelian with 1, 3, 7 elements of
+    # order 2; the dihedral group D4 has 5 and the quaternion group Q8 has 1.
+    from worker.models.enumerate import enumerate_models
+    p = parse_text(GROUP.replace("conjecture comm: forall x y. x * y = y * x\n", ""), "g.nj")
+    models = enumerate_models(clausify(p, None), 8, time.monotonic() + 60)
+    kinds = sorted((is_commutative(m), _involutions(m)) for m in models)
+    assert kinds == [(False, 1), (False, 5), (True, 1), (True, 3), (True, 7)]
+
+
+def test_canonical_form_is_invariant_and_separating():
+    import random
+    from worker.models.enumerate import canonical_form
+
+    def cyclic(n, perm):
+        return {"size": n, "predicates": {}, "functions": {
+            "*": {"arity": 2, "values": [[[perm[x], perm[y]], perm[(x + y) % n]]
+                                         for x in range(n) for y in range(n)]},
+            "e": {"arity": 0, "values": [[[], perm[0]]]}}}
+
+    def klein(perm):
+        return {"size": 4, "predicates": {}, "functions": {
+            "*": {"arity": 2, "values": [[[perm[x], perm[y]], perm[x ^ y]]
+                                         for x in range(4) for y in range(4)]},
+            "e": {"arity": 0, "values": [[[], perm[0]]]}}}
+
+    rng = random.Random(7)
+    ident = list(range(4))
+    for _ in range(10):
+        perm = ident[:]
+        rng.shuffle(perm)
+        assert canonical_form(cyclic(4, perm)) == canonical_form(cyclic(4, ident))
+        assert canonical_form(klein(perm)) == canonical_form(klein(ident))
+    assert canonical_form(cyclic(4, ident)) != canonical_form(klein(ident))
