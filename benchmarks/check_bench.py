@@ -9,6 +9,7 @@ the pipeline, as the best of a few runs of ``check_proof`` on the same proof,
 so that a slow first call (imports) does not count.
 
     .venv/bin/python benchmarks/check_bench.py [--time 10] [--suite DIR ...] [--only NAME ...]
+        [--strategy NAME] [--no-spot-check]
 """
 
 from __future__ import annotations
@@ -61,10 +62,11 @@ def main(argv=None) -> int:
     ap.add_argument("--time", type=float, default=10.0, help="seconds per obligation")
     ap.add_argument("--suite", action="append", help="suite directory (repeatable)")
     ap.add_argument("--only", action="append", help="only files whose name contains this")
+    ap.add_argument("--strategy", help="one named strategy instead of the portfolio")
     ap.add_argument("--no-spot-check", action="store_true",
                     help="time the replay without the small-model check of input clauses")
     args = ap.parse_args(argv)
-    settings = V.Settings(limits=V.Limits(time=args.time))
+    settings = V.Settings(limits=V.Limits(time=args.time), strategy=args.strategy)
     rows = []
     print(f"{'problem':44} {'status':20} {'steps':>5} {'search s':>9} {'check s':>9} {'ratio':>7}")
     for suite in args.suite or SUITES:
