@@ -217,6 +217,22 @@ def bench_solvers(solvers, repeat):
           + f"; {clauses:,} clauses at size 8")
 
 
+def bench_enumeration():
+    """Groups of order 1..8 up to isomorphism (OEIS A000001: 1 1 1 2 1 2 1 5)."""
+    from worker.models.enumerate import enumerate_models
+    cp = clausify(parse_text(GROUP, "g.nj"), None)
+    print("\n== enumeration: groups of order n up to isomorphism (OEIS A000001: "
+          "1 1 1 2 1 2 1 5)")
+    cells = []
+    for n in range(1, 9):
+        c0 = time.process_time()
+        iso = enumerate_models(cp, n)
+        t_iso = time.process_time() - c0
+        raw = enumerate_models(cp, n, up_to_isomorphism=False)
+        cells.append(f"{n}: {len(iso)} ({len(raw)} found, {t_iso:.3f} CPU s)")
+    print("; ".join(cells))
+
+
 def main(argv=None):
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--quick", action="store_true", help="only the CounterSatisfiable set")
@@ -229,6 +245,7 @@ def main(argv=None):
     solvers = a.solvers.split(",")
     bench_set(a.max_size, a.budget, solvers[0])
     if not a.quick:
+        bench_enumeration()
         bench_solvers(solvers, a.repeat)
 
 
