@@ -63,6 +63,21 @@ def _common(p) -> None:
                         "axiom library (default: $NIGHTJAR_TPTP_ROOT)")
 
 
+class InternalError(Exception):
+    """A bug (not the user's input): reported in one line, exit 1."""
+
+
+def _clausify_safely(clausify, problem, conj):
+    try:
+        return clausify(problem, conj)
+    except InputError:
+        raise
+    except Exception as e:          # a bug in the clausifier: no traceback
+        raise InternalError(f"internal error while clausifying "
+                            f"{'conjecture ' + conj if conj else 'the problem'}: "
+                            f"{type(e).__name__}: {e}") from e
+
+
 def _load(path, args):
     return load_problem(path, disk_reader(), language=args.language,
                         include_root=args.include_root)
@@ -97,7 +112,7 @@ def check_file(path: str, args) -> dict:
     if clausify is not None:
         obs = []
         for conj in problem.obligations():
-            cp = clausify(problem, conj)
+            cp = _clausify_safely(clausify, problem, conj)
             obs.append({
                 "conjecture": conj,
                 "clauses": len(cp.clauses),
@@ -161,6 +176,13 @@ def run_check(args) -> int:
             rep = {"file": path, "ok": False, "error": e.to_json()}
             if not args.json:
                 print(e.render(), file=sys.stderr)
+        except InternalError as e:
+            failed = True
+            rep = {"file": path, "ok": False, "error": {
+                "message": str(e), "file": path, "line": None, "col": None,
+                "text": f"{path}: {e}", "internal": True}}
+            if not args.json:
+                print(f"{path}: {e}", file=sys.stderr)
         else:
             if not args.json:
                 print(render_check(rep))
@@ -193,7 +215,7 @@ def clausify_report(path: str, args) -> dict:
         wanted = problem.obligations()
     obs = []
     for conj in wanted:
-        cp = clausify(problem, conj)
+        cp = _clausify_safely(clausify, problem, conj)
         obs.append({
             "conjecture": conj,
             "trivial": cp.trivial,
@@ -243,7 +265,11 @@ def render_clausify(rep: dict) -> str:
 
 
 def run_clausify(args) -> int:
-    rep = clausify_report(args.file, args)
+    try:
+        rep = clausify_report(args.file, args)
+    except InternalError as e:
+        print(f"{args.file}: {e}", file=sys.stderr)
+        return 1
     if args.json:
         json.dump(rep, sys.stdout, indent=2, ensure_ascii=False)
         sys.stdout.write("\n")

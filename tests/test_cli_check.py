@@ -121,3 +121,16 @@ def test_usage_errors_exit_2(capsys):
     with pytest.raises(SystemExit) as e:
         cli_main(["check"])
     assert e.value.code == 2
+
+
+def test_a_clausifier_failure_is_one_line_not_a_traceback(monkeypatch, capsys):
+    import worker.clausify
+
+    def broken(problem, conjecture):
+        raise ZeroDivisionError("boom")
+    monkeypatch.setattr(worker.clausify, "clausify", broken)
+    code, out, err = run(["check", ROBOTS], capsys)
+    assert code == 1 and "internal error while clausifying conjecture c1" in err
+    assert "ZeroDivisionError: boom" in err
+    code, out, err = run(["clausify", ROBOTS], capsys)
+    assert code == 1 and "internal error" in err

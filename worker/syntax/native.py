@@ -68,6 +68,7 @@ class NativeParser:
         self.depth = 0
         self.scope: dict = {}
         self.varnames: dict = {}
+        self.binders: dict = {}     # var -> offset of its name in the binder
         self.nvars = 0
         self.includes = 0
 
@@ -157,6 +158,7 @@ class NativeParser:
         self.i += 1
         self.scope = {}
         self.varnames = {}
+        self.binders = {}
         self.nvars = 0
         self.depth = 0
         f = self.formula(self.operand(0, colon, "a formula"))
@@ -299,8 +301,10 @@ class NativeParser:
             v = self.scope.get(name) if kind == "name" else None
             if self.k[self.i] == "(":
                 if v is not None:
-                    raise self.err(f"'{name}' is a variable bound by a quantifier "
-                                   f"here; a variable cannot be applied to arguments",
+                    ln, col = self.src.linecol(self.binders[v])
+                    raise self.err(f"'{name}' is a variable here (bound at line {ln}, "
+                                   f"column {col}); a variable cannot be applied to "
+                                   f"arguments",
                                    i, hint="rename the bound variable or the function")
                 return self.application(intern(name), i)
             if v is not None:
@@ -368,8 +372,10 @@ class NativeParser:
         kind = self.k[q_i]
         self.i += 1
         names = []
+        offs = []
         while self.k[self.i] == "name":
             names.append(self.t[self.i])
+            offs.append(self.o[self.i])
             self.i += 1
         if not names:
             if self.t[self.i] in _RESERVED_NAMES:
@@ -389,10 +395,11 @@ class NativeParser:
         scope = self.scope
         saved = []
         vs = []
-        for n in names:
+        for n, off in zip(names, offs):
             v = self.nvars
             self.nvars += 1
             self.varnames[v] = n
+            self.binders[v] = off
             saved.append((n, scope.get(n)))
             scope[n] = v
             vs.append(v)
