@@ -63,8 +63,8 @@ def compile_grounder(fc, N, bases):
     """Python source of a function that adds the new ground instances of one
     flat clause at size ``n`` (those where some variable is ``n-1``), from
     the values ``start = (x0, x1)`` of the two outermost variables on.
-    Returns the pair to resume from when the clock passes ``deadline``
-    (checked once per value of the second variable), else None."""
+    Returns the pair to resume from when ``past_deadline()`` says so (asked
+    once per value of the second variable), else None."""
     k = fc.nvars
     lits = []           # (level, expr) for SAT literals
     eqs = {}            # level -> list of (a, b) positive var equations
@@ -82,7 +82,7 @@ def compile_grounder(fc, N, bases):
         level = max(coeffs) if coeffs else -1
         lits.append((level, expr))
     L = []
-    L.append("def ground(n, add, clock, deadline, start):")
+    L.append("def ground(n, add, past_deadline, start):")
     if k == 0:
         L.append("    if n != 1:\n        return None")
         body = ", ".join(e for _l, e in lits)
@@ -106,14 +106,14 @@ def compile_grounder(fc, N, bases):
                 L.append(f"{ind}for x0 in range(start[0], n):")
                 ind += "    "
                 if k == 2:
-                    L.append(f"{ind}if clock() > deadline:\n{ind}    return (x0, 0)")
+                    L.append(f"{ind}if past_deadline():\n{ind}    return (x0, 0)")
                 L.append(f"{ind}h0 = x0 == top")
                 ind = ind[:-4]
         elif v == k - 1:
             L.append(f"{ind}for x{v} in (R if h{v-1} else T):")
         elif v == 1:
             L.append(f"{ind}for x1 in (range(start[1], n) if x0 == start[0] else R):")
-            L.append(f"{ind}    if clock() > deadline:\n{ind}        return (x0, x1)")
+            L.append(f"{ind}    if past_deadline():\n{ind}        return (x0, x1)")
         else:
             L.append(f"{ind}for x{v} in R:")
         ind += "    "

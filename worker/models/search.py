@@ -196,9 +196,13 @@ class ModelSearch:
                 self._next_size(n, excluded=n >= self.min_size)
         self.exhausted = not self.models_found
         self.done = True
-        self.reason = (f"no model of size {self.min_size} to {self.max_size}"
-                       if self.min_size < self.max_size else
-                       f"no model of size {self.max_size}")
+        span = (f"size {self.min_size} to {self.max_size}" if self.min_size < self.max_size
+                else f"size {self.max_size}")
+        if self.models_found:
+            self.reason = (f"every {span} searched: {self.models_found} size(s) with a "
+                           f"model, none at {', '.join(map(str, self.sizes_excluded)) or 'no other size'}")
+        else:
+            self.reason = f"no model of {span}"
         self._release()
         return None
 
@@ -231,10 +235,18 @@ class ModelSearch:
             self._size_clauses_added = True
         grounders = enc.grounders()
         clock = time.monotonic
+        buf = []
+
+        def past_deadline():
+            if len(buf) > 50_000:           # hand instances to the solver in batches
+                sat.add_all(buf)
+                buf.clear()
+            return clock() > deadline
+
         while self._clause_at < len(grounders):
-            buf = []
-            resume = grounders[self._clause_at](n, buf.append, clock, deadline, self._start)
+            resume = grounders[self._clause_at](n, buf.append, past_deadline, self._start)
             sat.add_all(buf)
+            buf.clear()
             if resume is not None:
                 self._start = resume
                 self.reason = f"size {n}: time slice ended while grounding"
