@@ -126,6 +126,7 @@ class ModelSearch:
         self.exhausted = False
         self.done = False               # nothing left to search (exhausted or gave up)
         self.models_found = 0
+        self.sizes_with_model: list = []
         self.sizes_excluded: list = []
         self.current_size = 1
         self.reason = ""
@@ -187,6 +188,7 @@ class ModelSearch:
                 if r:
                     model = self._extract(n)
                     self.models_found += 1
+                    self.sizes_with_model.append(n)
                     self._next_size(n, excluded=False)
                     self.reason = f"model of size {n} found"
                     return model
@@ -199,8 +201,9 @@ class ModelSearch:
         span = (f"size {self.min_size} to {self.max_size}" if self.min_size < self.max_size
                 else f"size {self.max_size}")
         if self.models_found:
-            self.reason = (f"every {span} searched: {self.models_found} size(s) with a "
-                           f"model, none at {', '.join(map(str, self.sizes_excluded)) or 'no other size'}")
+            self.reason = (f"every {span} searched: models at size "
+                           f"{', '.join(map(str, self.sizes_with_model))}; none at "
+                           f"{', '.join(map(str, self.sizes_excluded)) or 'any other size'}")
         else:
             self.reason = f"no model of {span}"
         self._release()
