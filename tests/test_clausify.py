@@ -11,6 +11,7 @@ from worker.syntax.errors import InputError, LimitError
 from worker.syntax.formulas import (And, Atom, Const, Iff, Implies, Not, Or,
                                     Problem, Quant, Statement, Symbol)
 from worker.syntax.printer import format_clause
+from worker.syntax.terms import symbols as term_symbols
 
 
 def problem(*statements, signature=None):
@@ -106,6 +107,40 @@ def test_universals_of_expanded_copies_are_renamed_apart():
     cp = clausify(problem(("a", "axiom", f)), None)
     got = sorted(texts(cp))
     assert got == sorted(["not p(sk1) or r", "p(X0) or not r"])
+
+
+def test_one_variable_number_bound_twice_gives_two_variables():
+    # Readers number bound variables uniquely, but the pipeline must not
+    # rely on it: (forall 0. p(0)) or (forall 0. q(0)) is p(X0) or q(X1).
+    f = Or((forall([0], A("p", 0)), forall([0], A("q", 0))))
+    cp = clausify(problem(("a", "axiom", f)), None)
+    assert [c.lits for c in cp.clauses] == [((True, ("p", 0)), (True, ("q", 1)))]
+
+
+def test_skolem_symbols_shared_only_for_the_same_arguments():
+    # the subformula exists 1. q(1, 0) once under forall 0, once under
+    # exists 0: different argument shapes need different Skolem symbols
+    inner = exists([1], A("q", 1, 0))
+    f = And((forall([0], inner), exists([0], inner)))
+    cp = clausify(problem(("a", "axiom", f)), None)
+    arities = {}
+    for c in cp.clauses:
+        for _, atom in c.lits:
+            for name, ar in term_symbols(atom).items():
+                if name in cp.skolems:
+                    assert cp.skolems[name].arity == ar
+                    arities[name] = ar
+    assert sorted(arities.values()) == [0, 0, 1]
+
+
+def test_copies_of_one_existential_share_a_skolem_symbol():
+    # f = (exists x. p(x)) <-> r occurs on its own and inside s <-> f; the
+    # expansions contain several positive copies of exists x. p(x), all
+    # ground, so one Skolem constant serves them all.
+    f = Iff(exists([0], A("p", 0)), A("r"))
+    g = And((f, Iff(A("s"), f)))
+    cp = clausify(problem(("a", "axiom", g)), None)
+    assert len(cp.skolems) == 1
 
 
 # ------------------------------------------------------------ conjectures

@@ -237,7 +237,7 @@ def test_without_naming_the_chain_blows_up():
 DOMAIN_SIZES = (1, 2)
 
 
-def fo_formulas():
+def fo_formulas(bound=()):
     def atoms(depth_vars):
         terms = st.one_of(st.sampled_from(depth_vars + ["a"]),
                           st.sampled_from(depth_vars + ["a"]).map(lambda t: ("f", t)))
@@ -268,7 +268,7 @@ def fo_formulas():
         kind = draw(st.sampled_from(["forall", "exists"]))
         return Quant(kind, (v,), draw(formula(bound + (v,), depth + 1)))
 
-    return formula()
+    return formula(tuple(bound))
 
 
 def _eval_term(t, env, interp):
@@ -420,10 +420,39 @@ def test_first_order_models_match_by_domain_size(f):
         assert clauses_have_model(cp, n) == formula_has_model(f, n), n
 
 
-@settings(max_examples=30, deadline=None)
-@given(st.lists(fo_formulas(), min_size=3, max_size=5))
+@settings(max_examples=20, deadline=None)
+@given(st.lists(fo_formulas(), min_size=3, max_size=4))
 def test_first_order_iff_chains_match_by_domain_size(parts):
     f = _chain(parts)
     cp = clausify(problem(("a", "axiom", f)), None)
     for n in DOMAIN_SIZES:
         assert clauses_have_model(cp, n) == formula_has_model(f, n), n
+
+
+@settings(max_examples=20, deadline=None)
+@given(st.sampled_from(["forall", "exists"]),
+       st.lists(fo_formulas(bound=(0,)), min_size=3, max_size=4))
+def test_first_order_chains_under_a_quantifier(kind, parts):
+    """Definitions then have the quantified variable as argument."""
+    f = Quant(kind, (0,), _chain(parts))
+    cp = clausify(problem(("a", "axiom", f)), None)
+    for n in DOMAIN_SIZES:
+        assert clauses_have_model(cp, n) == formula_has_model(f, n), n
+
+
+def test_definition_with_arguments_keeps_models():
+    """forall x. p(x) <-> (q(x, a) <-> (p(f(x)) <-> (r <-> (exists y. q(y, x))
+    <-> (x = a <-> p(a))))): named parts take x as argument."""
+    def p(t): return Atom(("p", t))
+    chain = _chain([Iff(Atom(("=", 0, "a")), p("a")),
+                    Quant("exists", (1,), Atom(("q", 1, 0))),
+                    Atom("r"), p(("f", 0)), Atom(("q", 0, "a")), p(0)])
+    f = Quant("forall", (0,), chain)
+    cp = clausify(problem(("a", "axiom", f)), None)
+    assert any(d.arity == 1 for d in cp.definitions.values())
+    for n in DOMAIN_SIZES:
+        assert clauses_have_model(cp, n) == formula_has_model(f, n), n
+    g = Not(f)
+    cq = clausify(problem(("g", "conjecture", f)), "g")
+    for n in DOMAIN_SIZES:
+        assert clauses_have_model(cq, n) == formula_has_model(g, n), n
