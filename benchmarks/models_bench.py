@@ -106,32 +106,36 @@ def run_one(problem, conjecture, max_size, budget, solver):
     c0 = time.process_time()
     model = s.run(t0 + budget)
     secs = time.process_time() - c0
-    ok = None
+    ok, s.check_seconds = None, 0.0
     if model is not None:
+        c1 = time.process_time()
         ok = check_model(model, problem, conjecture).ok
+        s.check_seconds = time.process_time() - c1
     return model, secs, ok, s
 
 
 def bench_set(max_size, budget, solver):
     print(f"== CounterSatisfiable set (solver {solver}, sizes up to {max_size}, "
           f"{budget:.0f} s each)")
-    print(f"{'problem':52} {'found':>5} {'size':>4} {'expect':>6} {'cpu s':>8}  checked")
-    times, rows = [], []
+    print(f"{'problem':52} {'found':>5} {'size':>4} {'expect':>6} {'cpu s':>8} {'eval s':>7}  checked")
+    times, rows, checks = [], [], []
     cases = [(n, parse_text(t, n + ".nj"), c, exp) for n, t, c, exp, _src in OWN]
     for label, p, conj in corpus_cases():
         cases.append((label, p, conj, "?"))
     for label, p, conj, exp in cases:
         model, secs, ok, s = run_one(p, conj, max_size, budget, solver)
         times.append(secs)
+        checks.append(s.check_seconds)
         size = model["size"] if model else "-"
         exp_s = "none" if exp is None else str(exp)
         print(f"{label[:52]:52} {'yes' if model else 'no':>5} {size:>4} {exp_s:>6} "
-              f"{secs:8.3f}  {'evaluated ok' if ok else ('REFUSED' if ok is False else s.reason)}")
+              f"{secs:8.3f} {s.check_seconds:7.4f}  {'evaluated ok' if ok else ('REFUSED' if ok is False else s.reason)}")
         rows.append((label, model, ok))
     found = sum(1 for _l, m, _o in rows if m)
     print(f"found {found} of {len(rows)}; median {statistics.median(times):.3f} CPU s, "
           f"total {sum(times):.2f} s; refused by the evaluator: "
-          f"{sum(1 for _l, _m, o in rows if o is False)}")
+          f"{sum(1 for _l, _m, o in rows if o is False)}; evaluation {sum(checks):.3f} CPU s in all, "
+          f"{sum(checks) / max(sum(times), 1e-9):.1%} of the search time")
     return rows
 
 
