@@ -39,8 +39,8 @@ conjecture andrews:
 BUILT_IN = {
     "builtin/andrews.nj": ANDREWS,
     "builtin/drinker.nj": "conjecture drinker: exists x. (d(x) implies forall y. d(y))\n",
-    "builtin/chain.nj": "axiom chain: " + " iff ".join(
-        f"(p{i}" for i in range(1, 13)) + ")" * 11 + "\n",
+    "builtin/chain.nj": "axiom chain: " + " iff (".join(
+        f"p{i}" for i in range(1, 13)) + ")" * 11 + "\n",
     "builtin/group.nj": """
 axiom assoc: forall x y z. (x * y) * z = x * (y * z)
 axiom unit: forall x. e * x = x
