@@ -70,7 +70,11 @@ def op(summary, ok_code, ok, *err_codes, params=(), body=None, secured=True, tag
     o = {"summary": summary, "tags": list(tags), "responses": {str(ok_code): ok}}
     o["responses"].update(errors(*err_codes))
     if secured:
-        o["responses"].update(errors(401, 429))
+        # every request passes service.limits first: 400 (query or body over a
+        # limit), 429 (rate); an id over 100 characters is 404 at once
+        o["responses"].update(errors(400, 401, 429))
+        if any(p["in"] == "path" for p in params):
+            o["responses"].update(errors(404))
     if params:
         o["parameters"] = list(params)
     if body is not None:
