@@ -183,3 +183,47 @@ def test_bad_input_is_refused_with_location_and_nothing_kept(api, workers):
     assert err["text"].startswith(f"bad.nj:{err['line']}:{err['col']}: error:")
     assert sorted(api.redis.keys("*")) == before
     assert api.redis.llen("rq:queue:nj-batch") == 0
+
+
+HOG_WORKER = """\
+import sys
+import worker.pipeline as pipeline
+real = pipeline.decide
+
+def decide(problem, conjecture, settings=None):
+    if conjecture == "hog":          # wants far more memory than the cap allows
+        block = bytearray(6 << 30)
+        return real(problem, conjecture, settings)
+    return real(problem, conjecture, settings)
+
+pipeline.decide = decide
+from service.config import Config
+from service.queue import run_worker
+sys.exit(run_worker(sys.argv[1], Config.from_env()))
+"""
+
+
+def test_memory_cap_gives_memoryout_and_the_worker_lives_on(api, redis_server, tmp_path):
+    import os
+    import subprocess
+    import sys
+    script = tmp_path / "hog_worker.py"
+    script.write_text(HOG_WORKER)
+    env = dict(os.environ, NIGHTJAR_MEMORY_MB="2048", NIGHTJAR_HEARTBEAT_SECONDS="0.5")
+    log = open(tmp_path / "hog.log", "wb")
+    p = subprocess.Popen([sys.executable, str(script), redis_server.url], env=env,
+                         stdout=log, stderr=log, start_new_session=True)
+    try:
+        c = owner(api)
+        text = "axiom a: p(c)\nconjecture hog: p(c)\nconjecture fine: p(c) or q\n"
+        sub = c.submit({"problem": {"main": "h.nj", "files": {"h.nj": text}}})
+        b = c.wait(sub["batch"], timeout=60)
+        hog, fine = (c.job(j["id"]) for j in sub["jobs"])
+        assert hog["verdict"] == "MemoryOut" and "memory" in hog["reason"]
+        assert fine["verdict"] == "Theorem" and fine["worker"] == hog["worker"]
+        assert p.poll() is None                       # the worker is still there
+        assert b["verdicts"] == {"MemoryOut": 1, "Theorem": 1}
+    finally:
+        from service.embedded import stop_processes
+        stop_processes([p], timeout=5)
+        log.close()
