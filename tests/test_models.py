@@ -498,3 +498,18 @@ def test_canonical_form_is_invariant_and_separating():
         assert canonical_form(cyclic(4, perm)) == canonical_form(cyclic(4, ident))
         assert canonical_form(klein(perm)) == canonical_form(klein(ident))
     assert canonical_form(cyclic(4, ident)) != canonical_form(klein(ident))
+
+
+@needs_front
+def test_tiny_slices_reach_the_same_answer():
+    # the portfolio's way: many short run() calls; grounding and solving are
+    # interrupted and resumed, the outcome is the same as one long call
+    p, cp = group_problem()
+    s = ModelSearch(cp, max_size=8)
+    calls, model = 0, None
+    while model is None and not s.done and calls < 20_000:
+        model = s.run(time.monotonic() + 0.003)
+        calls += 1
+    assert calls > 5
+    assert model is not None and model["size"] == 6 and s.sizes_excluded == [1, 2, 3, 4, 5]
+    assert check_model(model, p, "comm").ok
