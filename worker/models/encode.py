@@ -33,12 +33,6 @@ every constraint.  The encoding uses ladder variables ``z(i, w)`` meaning
 
 from __future__ import annotations
 
-import time
-
-
-class GroundingInterrupted(Exception):
-    pass
-
 
 def _lit_terms(lit, N, bases):
     """(sign, constant, {var: coefficient}) of a fun/pred literal's SAT id."""
@@ -90,9 +84,7 @@ def compile_grounder(fc, N, bases):
         L.append("    return None")
         return "\n".join(L)
     L.append("    R = range(n); top = n - 1; T = (top,)")
-    names = {}
     for i, (level, expr) in enumerate(lits):
-        names[i] = f"l{i}"
         if level == -1:
             L.append(f"    l{i} = {expr}")
     ind = "    "

@@ -19,8 +19,6 @@ this mode is meant for algebraic signatures.
 
 from __future__ import annotations
 
-import time
-
 from .search import ModelSearch
 
 
