@@ -17,7 +17,6 @@ replays and model re-evaluations took).  A temporary embedded service
 from __future__ import annotations
 
 import argparse
-import os
 import statistics
 import sys
 import tempfile

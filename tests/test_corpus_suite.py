@@ -3,7 +3,6 @@ once, statement hashes, and the native copy of the Pelletier set."""
 
 from __future__ import annotations
 
-import os
 import subprocess
 import sys
 import textwrap
