@@ -513,3 +513,23 @@ def test_tiny_slices_reach_the_same_answer():
     assert calls > 5
     assert model is not None and model["size"] == 6 and s.sizes_excluded == [1, 2, 3, 4, 5]
     assert check_model(model, p, "comm").ok
+
+
+def test_high_arity_lowers_the_largest_size_and_says_so(monkeypatch):
+    # with room for 700 variable numbers, f/3 (n^4 numbers) fits up to size 5
+    import worker.models.search as search
+    monkeypatch.setattr(search, "MAX_VARIABLES", 700)
+    cp = _cp([[(True, ("p", ("f", 0, 1, 2)))], [(False, ("p", "a"))],
+              [(True, ("=", 0, "a")), (True, ("=", 0, "b"))]],
+             [("f", "function", 3), ("p", "predicate", 1), ("a", "function", 0),
+              ("b", "function", 0)])
+    s = ModelSearch(cp, max_size=8)
+    assert s.max_size == 5 and s.requested_max_size == 8
+    m = s.run()
+    # p(f(...)) everywhere and not p(a): a differs from every value of f, so
+    # 2 elements at least; every element is a or b, so 2 at most
+    assert m is not None and m["size"] == 2 and s.sizes_excluded == [1]
+    while not s.done:
+        s.run()
+    assert s.sizes_excluded == [1, 3, 4, 5]
+    assert not s.exhausted and "sizes above 5 skipped" in s.reason

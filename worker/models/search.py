@@ -112,6 +112,16 @@ def _symbols(cp):
     return funs, preds
 
 
+# The SAT variables are numbered for the largest size (see encode.py): a
+# function of arity k takes max_size^(k+1) numbers.  Past this many the
+# largest size is lowered (and the reason says so).
+MAX_VARIABLES = 4_000_000
+
+
+def _id_space(funs, preds, n):
+    return sum(n ** (k + 1) for k in funs.values()) + sum(n ** k for k in preds.values())
+
+
 class ModelSearch:
     """Resumable search for a finite model of a clause set."""
 
@@ -133,6 +143,15 @@ class ModelSearch:
         self.figures = {"clauses": 0, "seconds": {}, "ground_seconds": 0.0,
                         "solve_seconds": 0.0}
         self._funs, self._preds = _symbols(cp)
+        self.requested_max_size = max_size
+        self.size_note = ""
+        while max_size > 1 and _id_space(self._funs, self._preds, max_size) > MAX_VARIABLES:
+            max_size -= 1
+        if max_size < self.requested_max_size:
+            self.max_size = max_size
+            self.size_note = (f"sizes above {max_size} skipped: numbering the cells of "
+                              f"the symbols of high arity would need over "
+                              f"{MAX_VARIABLES:,} SAT variables")
         self._flat = flatten_clauses(cp.clauses)
         self._internal = set()          # split predicates: not part of the model
         if split:
@@ -196,7 +215,7 @@ class ModelSearch:
                 self._phase = "next"
             if self._phase == "next":
                 self._next_size(n, excluded=n >= self.min_size)
-        self.exhausted = not self.models_found
+        self.exhausted = not self.models_found and not self.size_note
         self.done = True
         span = (f"size {self.min_size} to {self.max_size}" if self.min_size < self.max_size
                 else f"size {self.max_size}")
@@ -206,6 +225,8 @@ class ModelSearch:
                            f"{', '.join(map(str, self.sizes_excluded)) or 'any other size'}")
         else:
             self.reason = f"no model of {span}"
+        if self.size_note:
+            self.reason += "; " + self.size_note
         self._release()
         return None
 
