@@ -204,6 +204,10 @@ class NativeParser:
     def operand(self, prec, op_i, what):
         if self.k[self.i] in _STARTS:
             return self.expr(prec)
+        self.missing(op_i, what)
+
+    def missing(self, op_i, what):
+        """No operand where one is needed: the error."""
         kind = self.k[self.i]
         if op_i is not None:
             after = self.t[op_i]
@@ -238,7 +242,9 @@ class NativeParser:
                 while k[self.i] == kind:
                     op_i = self.i
                     self.i += 1
-                    args.append(self.formula(self.operand(p + 1, op_i, "a formula")))
+                    if self.k[self.i] not in _STARTS:
+                        self.missing(op_i, "a formula")
+                    args.append(self.formula(self.expr(p + 1)))
                 left = And(tuple(args)) if kind == "and" else Or(tuple(args))
             elif kind == "implies":
                 if 2 < min_prec:
@@ -246,14 +252,18 @@ class NativeParser:
                 op_i = self.i
                 self.i += 1
                 lf = self.formula(left)
-                left = Implies(lf, self.formula(self.operand(2, op_i, "a formula")))
+                if self.k[self.i] not in _STARTS:
+                    self.missing(op_i, "a formula")
+                left = Implies(lf, self.formula(self.expr(2)))
             elif kind == "iff":
                 if 1 < min_prec:
                     break
                 op_i = self.i
                 self.i += 1
                 lf = self.formula(left)
-                left = Iff(lf, self.formula(self.operand(2, op_i, "a formula")))
+                if self.k[self.i] not in _STARTS:
+                    self.missing(op_i, "a formula")
+                left = Iff(lf, self.formula(self.expr(2)))
                 if k[self.i] == "iff":
                     raise self.err("'iff' is not associative: put parentheses around "
                                    "one side, e.g. (p iff q) iff r")
@@ -262,10 +272,11 @@ class NativeParser:
                     break
                 op_i = self.i
                 self.i += 1
-                lt = self.term(left, start, f"a term on the left of '{self.t[op_i]}'")
+                lt = self.term(left, start, "left", op_i)
                 r_i = self.i
-                rt = self.term(self.operand(7, op_i, "a term"), r_i,
-                               f"a term on the right of '{self.t[op_i]}'")
+                if self.k[self.i] not in _STARTS:
+                    self.missing(op_i, "a term")
+                rt = self.term(self.expr(7), r_i, "right", op_i)
                 atom = Atom(("=", lt[0], rt[0]))
                 left = atom if kind == "=" else Not(atom)
                 if k[self.i] == "=" or k[self.i] == "!=":
@@ -276,10 +287,11 @@ class NativeParser:
                     break
                 op_i = self.i
                 self.i += 1
-                lt = self.term(left, start, f"a term on the left of '{kind}'")
+                lt = self.term(left, start, "left", op_i)
                 r_i = self.i
-                rt = self.term(self.operand(p + 1, op_i, "a term"), r_i,
-                               f"a term on the right of '{kind}'")
+                if self.k[self.i] not in _STARTS:
+                    self.missing(op_i, "a term")
+                rt = self.term(self.expr(p + 1), r_i, "right", op_i)
                 self.symbols.use(kind, "function", 2, self.src, self.o[op_i])
                 d = 1 + max(lt[1], rt[1])
                 if d > MAX_DEPTH:
@@ -318,7 +330,9 @@ class NativeParser:
             return _Tm(intern(self.t[i]), self.o[i], "name", 0)
         if kind == "(":
             self.i += 1
-            inner = self.operand(0, i, "a formula or a term")
+            if self.k[self.i] not in _STARTS:
+                self.missing(i, "a formula or a term")
+            inner = self.expr(0)
             if self.k[self.i] != ")":
                 raise self.err(f"unbalanced brackets: expected ')' to close the '(' "
                                f"at {self.where(i)}, found {self.found()}")
@@ -326,7 +340,9 @@ class NativeParser:
             return inner
         if kind == "not":
             self.i += 1
-            return Not(self.formula(self.operand(5, i, "a formula")))
+            if self.k[self.i] not in _STARTS:
+                self.missing(i, "a formula")
+            return Not(self.formula(self.expr(5)))
         if kind == "forall" or kind == "exists":
             return self.quantifier()
         if kind == "true":
@@ -347,8 +363,9 @@ class NativeParser:
         d = 0
         while True:
             a_i = self.i
-            t, td = self.term(self.operand(0, open_i, "an argument"), a_i,
-                              "a term as argument")
+            if self.k[self.i] not in _STARTS:
+                self.missing(open_i, "an argument")
+            t, td = self.term(self.expr(0), a_i, "arg")
             args.append(t)
             if td > d:
                 d = td
@@ -403,7 +420,9 @@ class NativeParser:
             saved.append((n, scope.get(n)))
             scope[n] = v
             vs.append(v)
-        body = self.formula(self.operand(0, dot, "a formula"))
+        if self.k[self.i] not in _STARTS:
+            self.missing(dot, "a formula")
+        body = self.formula(self.expr(0))
         for n, old in reversed(saved):
             if old is None:
                 del scope[n]
@@ -433,9 +452,12 @@ class NativeParser:
             self.symbols.use(t[0], "predicate", len(t) - 1, self.src, node.off)
         return Atom(t)
 
-    def term(self, node, start_i, what):
-        """Return (term, depth)."""
+    def term(self, node, start_i, side, op_i=None):
+        """Return (term, depth); ``side`` (left, right, arg) and ``op_i``
+        say where the term stands, for the error message."""
         if type(node) is not _Tm:
+            what = ("a term as argument" if side == "arg" else
+                    f"a term on the {side} of '{self.t[op_i]}'")
             raise self.src.error(f"expected {what}, found a formula",
                                  self.o[start_i])
         kd = node.kind
