@@ -1,0 +1,100 @@
+"""deploy/ is consistent with the code: the production Redis configuration
+starts the bundled Redis with the promised settings, the systemd units pass
+systemd-analyze (where it is installed) and run commands that exist, and the
+container files and compose file name the same commands and targets."""
+
+import os
+import re
+import shutil
+import subprocess
+from pathlib import Path
+
+import pytest
+
+from service.cli import build_parser
+from tests.hardening import DEPLOY_CONF, PASSWORD, ProductionRedis
+
+DEPLOY = Path(__file__).resolve().parent.parent / "deploy"
+
+
+def test_production_redis_config_runs_with_the_promised_settings(tmp_path):
+    rp = ProductionRedis(tmp_path / "data").start()
+    try:
+        r = rp.client()
+        cfg = lambda k: r.config_get(k)[k]  # noqa: E731
+        assert cfg("appendonly") == "yes"
+        assert cfg("appendfsync") == "always"
+        assert cfg("maxmemory-policy") == "noeviction"
+        assert cfg("requirepass") == PASSWORD
+        r.set("nj:probe", "1")
+        import redis
+        with pytest.raises(redis.ResponseError):
+            r.execute_command("FLUSHALL")          # renamed away
+        anon = redis.Redis(port=rp.port, socket_connect_timeout=2)
+        with pytest.raises(redis.AuthenticationError):
+            anon.get("nj:probe")
+        assert (tmp_path / "data" / "nightjar.aof").exists()
+    finally:
+        rp.kill()
+
+
+def test_redis_config_placeholders_are_marked():
+    text = DEPLOY_CONF.read_text()
+    assert "requirepass REPLACE-WITH-A-LONG-RANDOM-PASSWORD" in text
+    for key in ("bind", "requirepass", "dir", "maxmemory"):
+        assert re.search(rf"^{key} ", text, re.M), key
+
+
+def test_systemd_units_verify_and_run_existing_commands():
+    units = sorted((DEPLOY / "systemd").glob("*.service"))
+    assert {u.name for u in units} >= {"nightjar-api.service", "nightjar-worker@.service"}
+    parser = build_parser()
+    sub = next(a for a in parser._actions if a.__class__.__name__ == "_SubParsersAction")
+    for u in units:
+        text = u.read_text()
+        assert re.search(r"^Restart=always$", text, re.M), u.name
+        assert re.search(r"^TimeoutStopSec=\d+$", text, re.M), u.name
+        for line in re.findall(r"^ExecStart=(.*)$", text, re.M):
+            if "/nightjar " in line:
+                cmd = line.split("/nightjar ", 1)[1].split()[0]
+                assert cmd in sub.choices, (u.name, cmd)
+    worker = (DEPLOY / "systemd" / "nightjar-worker@.service").read_text()
+    assert "KillMode=mixed" in worker and "KillSignal=SIGTERM" in worker
+    api = (DEPLOY / "systemd" / "nightjar-api.service").read_text()
+    assert "--call service.app:create_app" in api
+    if shutil.which("systemd-analyze") is None:
+        return
+    out = subprocess.run(["systemd-analyze", "verify", *map(str, units)],
+                         capture_output=True, text=True, timeout=60)
+    problems = [l for l in (out.stdout + out.stderr).splitlines()
+                if l.strip() and "is not executable" not in l]
+    assert problems == [], problems
+
+
+def test_the_api_entry_point_the_units_call_builds_the_app(monkeypatch, tmp_path):
+    """waitress-serve --call service.app:create_app: create_app() with no
+    arguments reads NIGHTJAR_REDIS_URL."""
+    from service.app import create_app
+    rp = ProductionRedis(tmp_path / "data").start()
+    try:
+        monkeypatch.setenv("NIGHTJAR_REDIS_URL", rp.url)
+        app = create_app()
+        resp = app.test_client().get("/api/health")
+        assert resp.status_code == 200 and resp.get_json()["ok"] is True
+    finally:
+        rp.kill()
+
+
+def test_container_files_agree_with_the_units():
+    cf = (DEPLOY / "containers" / "Containerfile").read_text()
+    assert re.search(r"^FROM base AS api$", cf, re.M)
+    assert re.search(r"^FROM base AS worker$", cf, re.M)
+    assert "--call service.app:create_app" in cf
+    assert '"nightjar", "worker"' in cf
+    compose = (DEPLOY / "containers" / "compose.yaml").read_text()
+    for svc in ("redis:", "api:", "worker:"):
+        assert re.search(rf"^  {svc}$", compose, re.M), svc
+    assert "target: api" in compose and "target: worker" in compose
+    assert "UNTESTED" in compose and "UNTESTED" in cf
+    red = (DEPLOY / "containers" / "redis.Containerfile").read_text()
+    assert "COPY deploy/redis.conf" in red
