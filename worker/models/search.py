@@ -37,6 +37,7 @@ class _Sat:
 
     def add(self, clause):
         self.solver.add_clause(clause)
+        self.clauses += 1
 
     def add_all(self, clauses):
         add = self.solver.add_clause
@@ -162,7 +163,6 @@ class ModelSearch:
         self._clause_at = 0             # grounding progress within the size
         self._start = (0, 0)
         self._size_clauses_added = False
-        self._clock_base = {}
 
     def _split(self, flat):
         def new_name(arity):
