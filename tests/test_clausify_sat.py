@@ -456,3 +456,20 @@ def test_definition_with_arguments_keeps_models():
     cq = clausify(problem(("g", "conjecture", f)), "g")
     for n in DOMAIN_SIZES:
         assert clauses_have_model(cq, n) == formula_has_model(g, n), n
+
+
+def test_named_parts_under_an_equivalence_are_two_way():
+    """(a1 & b1 | ... | a6 & b6) <-> r: the disjunction occurs with both
+    polarities, so every part named inside it needs a two-way definition;
+    the models over the user's atoms must stay those sympy finds."""
+    atoms = [f"{x}{i}" for i in range(6) for x in "ab"] + ["r"]
+    big = Or(tuple(And((Atom(f"a{i}"), Atom(f"b{i}"))) for i in range(6)))
+    f = Iff(big, Atom("r"))
+    cp = clausify(problem(("x", "axiom", f)), None)
+    assert cp.figures["definitions"] > 0
+    assert all(d.polarity == 0 for d in cp.definitions.values())
+    rng = random.Random(6)
+    sample = [{a: rng.random() < 0.6 for a in atoms} for _ in range(150)]
+    check_truth_table(f, cp, sample)
+    check_truth_table(Not(f), clausify(problem(("x", "axiom", Not(f))), None),
+                      sample)
