@@ -6,6 +6,7 @@
     GET  /api/batches/<id>                    counts per state and verdict, progress
     GET  /api/batches/<id>/jobs               ?state=&verdict=&offset=&limit=
     POST /api/batches/<id>/cancel
+    DELETE /api/batches/<id>                  a settled batch, its jobs and results
     GET  /api/jobs/<id>                       the job record
     GET  /api/jobs/<id>/proof                 proof as JSON and as text
     GET  /api/jobs/<id>/model                 countermodel as JSON and as text
@@ -388,6 +389,18 @@ def batch_cancel(bid):
         r = _cancel_one(jid)
         n["cancelled" if r["cancelled"] else "already_settled"] += 1
     return jsonify({"batch": bid, **n})
+
+
+@bp.delete("/batches/<bid>")
+@require_owner
+def batch_delete(bid):
+    from .store import Conflict
+    _batch_or_404(bid)
+    try:
+        n = svc().store.delete_batch(bid)
+    except Conflict as e:
+        raise BadRequest("not_settled", str(e), status=409)
+    return jsonify({"batch": bid, "deleted_jobs": n})
 
 
 @bp.get("/health")

@@ -105,7 +105,8 @@ class _TokenStore:
             url = info and info.get("redis_url")
         if not url:
             home = home_dir()
-            self.rp = RedisProcess(home / "redis", log=home / "redis-token.log").start()
+            (home / "logs").mkdir(parents=True, exist_ok=True)
+            self.rp = RedisProcess(home / "redis", log=home / "logs" / "redis-token.log").start()
             url = self.rp.url
         r = connect(url)
         try:

@@ -158,6 +158,9 @@ class Client:
     def cancel_batch(self, bid):
         return self.post(f"/api/batches/{bid}/cancel")
 
+    def delete_batch(self, bid):
+        return self.request("DELETE", f"/api/batches/{bid}")
+
     def wait(self, bid: str, on_progress=None, interval: float = 0.3,
              timeout: float | None = None) -> dict:
         """Poll a batch until every job has settled; ``on_progress(batch)``

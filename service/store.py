@@ -436,6 +436,37 @@ class Store:
         rec = self._transition(jid, lambda r: r["state"] in ("queued", "running"), change)
         return rec["state"] if rec else None
 
+    def delete_batch(self, bid: str) -> int:
+        """Remove a settled batch, its jobs and their results (the shared
+        problem texts stay: other problems may hold them).  Returns the number
+        of jobs removed; raises Conflict while a job is queued or running."""
+        b = self.get_batch(bid)
+        if b is None:
+            return 0
+        if not b["finished"]:
+            raise Conflict("the batch has jobs that have not settled; cancel it first")
+        ids = self.batch_job_ids(bid)
+        pipe = self.r.pipeline(transaction=False)
+        for jid in ids:
+            pipe.hmget(self.k_job(jid), ["reuse_key", "owner"])
+        reuse = pipe.execute()
+        pipe = self.r.pipeline(transaction=True)
+        pipe.multi()
+        for jid, (rk, owner) in zip(ids, reuse):
+            pipe.delete(self.k_job(jid), self.k_result(jid), self.k_alive(jid))
+            pipe.zrem(self.K_QUEUED, jid)
+            pipe.srem(self.K_RUNNING, jid)
+        pipe.delete(self.k_batch(bid), self.k_batch_jobs(bid), self.k_counts(bid))
+        pipe.zrem(self.k_owner_batches(b["owner"]), bid)
+        pipe.execute()
+        # a reuse entry pointing at a deleted job is dropped (compare, then delete)
+        for jid, (rk, owner) in zip(ids, reuse):
+            if rk:
+                key = self.k_reuse(_s(owner), _s(rk))
+                if _s(self.r.get(key)) == jid:
+                    self.r.delete(key)
+        return len(ids)
+
     def running_jobs(self) -> list[str]:
         return [_s(x) for x in self.r.smembers(self.K_RUNNING)]
 

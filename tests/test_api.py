@@ -131,6 +131,7 @@ def test_submit_one_file_makes_a_job_per_conjecture(env):
 
 
 def test_bad_input_is_refused_with_its_place_and_nothing_is_kept(env):
+    env.client.get("/api/batches", headers=env.h)   # whatever a first request sets up
     before = set(env.r.keys("*"))
     r = env.post({"problems": [one(), one(BAD, "bad.nj")]})
     assert r.status_code == 400
@@ -265,3 +266,20 @@ def test_unknown_paths_answer_json(env):
     assert r.status_code == 404 and r.get_json()["error"]["code"] == "not_found"
     r = env.client.get("/api/jobs/jnope", headers=env.h)
     assert r.status_code == 404
+
+
+def test_delete_a_settled_batch(env):
+    body = env.post({"problem": one()}).get_json()
+    bid = body["batch"]
+    r = env.client.delete(f"/api/batches/{bid}", headers=env.h)
+    assert r.status_code == 409 and r.get_json()["error"]["code"] == "not_settled"
+    env.run_all()
+    assert env.client.delete(f"/api/batches/{bid}", headers=env.h2).status_code == 404
+    r = env.client.delete(f"/api/batches/{bid}", headers=env.h)
+    assert r.status_code == 200 and r.get_json()["deleted_jobs"] == 2
+    assert env.client.get(f"/api/batches/{bid}", headers=env.h).status_code == 404
+    jid = body["jobs"][0]["id"]
+    assert env.client.get(f"/api/jobs/{jid}", headers=env.h).status_code == 404
+    assert env.r.keys("nj:job:*") == [] and env.r.keys("nj:result:*") == []
+    assert env.r.keys("nj:reuse:*") == [] and env.r.keys("nj:batch:*") == []
+    assert env.client.get("/api/batches", headers=env.h).get_json()["batches"] == []

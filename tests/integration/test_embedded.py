@@ -121,3 +121,19 @@ def test_data_outlives_a_restart(service, tmp_path):
     c = Client(read_server(home)["url"], read_token(home))
     j = c.job(sub["jobs"][0]["id"])
     assert j["verdict"] == "Theorem" and c.proof(j["id"])["proof"]["steps"]
+
+
+def test_demo_starts_submits_waits_and_stops(tmp_path):
+    home = tmp_path / "demo-home"
+    r = nightjar(home, "demo", "--json")
+    assert r.returncode in (0, 3), r.stderr
+    lines = [json.loads(x) for x in r.stdout.splitlines()]
+    from service.cli_client import demo_submission
+    _, _, expected = demo_submission()
+    got = {(x["file"], x["conjecture"]): x["status"] for x in lines}
+    assert set(expected) <= set(got)
+    agree = sum(got[k] == v for k, v in expected.items())
+    assert agree >= len(expected) - 2, (agree, len(expected))
+    assert "stopping the service it started" in r.stderr
+    assert read_server(home) is None                 # stopped, nothing left behind
+    assert (home / "redis" / "appendonly.aof").exists()
