@@ -59,8 +59,8 @@ class ProductionRedis:
     def client(self) -> redis.Redis:
         return redis.Redis.from_url(self.url, socket_connect_timeout=2)
 
-    def start(self, timeout: float = 30.0) -> "ProductionRedis":
-        cmd = [redis_server_binary(), str(self.conf)]
+    def start(self, timeout: float = 30.0, extra: list[str] | None = None) -> "ProductionRedis":
+        cmd = [redis_server_binary(), str(self.conf), *(extra or [])]
         if self.netns:
             cmd = ["ip", "netns", "exec", self.netns] + cmd
         out = open(self.log, "ab")

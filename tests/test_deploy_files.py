@@ -98,3 +98,68 @@ def test_container_files_agree_with_the_units():
     assert "UNTESTED" in compose and "UNTESTED" in cf
     red = (DEPLOY / "containers" / "redis.Containerfile").read_text()
     assert "COPY deploy/redis.conf" in red
+
+
+def test_backup_and_restore_as_the_guide_says(tmp_path):
+    """deploy/GUIDE.md, "Backups and restore": BGSAVE, copy the snapshot;
+    later restore it (AOF moved aside, started with the AOF off, AOF turned on
+    again and rewritten), and the records are those of the snapshot."""
+    import shutil
+    import time
+
+    from service.store import Store
+    data = tmp_path / "data"
+    rp = ProductionRedis(data).start()
+    try:
+        r = rp.client()
+        store = Store(r)
+        b = {"main": "m.nj", "files": {"m.nj": "axiom a: p\nconjecture g: p\n"}, "language": None}
+        bid, ids = store.create_batch("o", [{"file": "m.nj", "conjecture": "g", "bundle": b,
+                                             "time_limit": 5}], label="kept", queue_name="nj-batch",
+                                      settings={})
+        r.bgsave()
+        deadline = time.monotonic() + 30
+        while True:
+            info = r.info("persistence")
+            if not info["rdb_bgsave_in_progress"] and info["rdb_changes_since_last_save"] == 0 \
+                    and (data / "nightjar.rdb").exists():
+                break
+            assert time.monotonic() < deadline, "BGSAVE did not finish"
+            time.sleep(0.1)
+        assert info["rdb_last_bgsave_status"] == "ok"
+        backup = tmp_path / "backup.rdb"
+        shutil.copy(data / "nightjar.rdb", backup)
+        # after the snapshot: a mistaken delete and a new batch
+        r.delete(store.k_job(ids[0]))
+        bid2, _ = store.create_batch("o", [{"file": "m.nj", "conjecture": "g", "bundle": b,
+                                            "time_limit": 5}], label="later",
+                                     queue_name="nj-batch", settings={})
+    finally:
+        rp.stop()
+    # restore
+    aof = data / "nightjar.aof"
+    aof.rename(tmp_path / "nightjar.aof.aside")
+    shutil.copy(backup, data / "nightjar.rdb")
+    rp.start(extra=["--appendonly", "no"])
+    try:
+        r = rp.client()
+        r.config_set("appendonly", "yes")
+        deadline = time.monotonic() + 30
+        while True:
+            info = r.info("persistence")
+            if info["aof_enabled"] and not info["aof_rewrite_in_progress"] \
+                    and not info.get("aof_rewrite_scheduled"):
+                break
+            assert time.monotonic() < deadline, "AOF rewrite did not finish"
+            time.sleep(0.1)
+    finally:
+        rp.stop()
+    rp.start()
+    try:
+        store = Store(rp.client())
+        assert store.get_job(ids[0])["state"] == "queued"      # the deleted record is back
+        assert store.get_batch(bid)["label"] == "kept"
+        assert store.get_batch(bid2) is None                   # after the snapshot: gone
+        assert aof.exists()
+    finally:
+        rp.kill()
