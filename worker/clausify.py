@@ -430,13 +430,26 @@ def _cnf(node, budget, statement):
         for k in kids:
             out.extend(_cnf(k, budget, statement))
         return out
-    acc = [()]
+    # Each partial clause is a chain (earlier chain, segment), flattened at
+    # the end, so a wide disjunction costs linear, not quadratic, time.
+    acc = [None]
     for k in kids:
         part = _cnf(k, budget, statement)
-        if len(acc) * len(part) > 1:
-            budget.check(budget.clauses + len(acc) * len(part), 0, statement)
-        acc = [a + b for a in acc for b in part]
-    return acc
+        if len(part) == 1:
+            seg = part[0]
+            acc = [(a, seg) for a in acc]
+            continue
+        budget.check(budget.clauses + len(acc) * len(part), 0, statement)
+        acc = [(a, b) for a in acc for b in part]
+    out = []
+    for chain in acc:
+        segs = []
+        while chain is not None:
+            chain, seg = chain
+            segs.append(seg)
+        segs.reverse()
+        out.append(tuple(lit for seg in segs for lit in seg))
+    return out
 
 
 def _clean(lits):
