@@ -221,6 +221,21 @@ def test_free_variables_read_as_universal():
         ((True, ("p", 0)), (False, ("q", 0, 1)))]
 
 
+def test_distribution_keeps_the_written_order():
+    f = Or((And((A("a"), A("b"))), A("c"), And((A("d"), A("e")))))
+    cp = clausify(problem(("x", "axiom", f)), None)
+    assert texts(cp) == ["a or c or d", "a or c or e", "b or c or d",
+                         "b or c or e"]
+
+
+def test_wide_disjunction_is_one_clause():
+    n = 5000
+    f = forall([0], Or(tuple(A("p", 0, f"c{i}") for i in range(n))))
+    cp = clausify(problem(("x", "axiom", f)), None)
+    (c,) = cp.clauses
+    assert c.lits == tuple((True, ("p", 0, f"c{i}")) for i in range(n))
+
+
 # ------------------------------------------------------------ miniscoping
 
 def test_miniscoping_shrinks_skolem_arity():
