@@ -84,6 +84,11 @@ class NativeParser:
         i = self.i if i is None else i
         return describe(self.k[i], self.t[i])
 
+    def unbalanced(self) -> str:
+        """Prefix for a missing ')' when the text ends (or a statement starts)
+        before it."""
+        return "unbalanced brackets: " if self.k[self.i] in _STATEMENT_END else ""
+
     def where(self, i) -> str:
         ln, col = self.src.linecol(self.o[i])
         return f"line {ln}, column {col}"
@@ -334,7 +339,7 @@ class NativeParser:
                 self.missing(i, "a formula or a term")
             inner = self.expr(0)
             if self.k[self.i] != ")":
-                raise self.err(f"unbalanced brackets: expected ')' to close the '(' "
+                raise self.err(f"{self.unbalanced()}expected ')' to close the '(' "
                                f"at {self.where(i)}, found {self.found()}")
             self.i += 1
             return inner
@@ -376,7 +381,7 @@ class NativeParser:
             if kind == ")":
                 self.i += 1
                 break
-            raise self.err(f"unbalanced brackets: expected ',' or ')' in the arguments "
+            raise self.err(f"{self.unbalanced()}expected ',' or ')' in the arguments "
                            f"of '{name}' (opened at {self.where(open_i)}), found "
                            f"{self.found()}")
         if d + 1 > MAX_DEPTH:

@@ -67,6 +67,9 @@ class TptpParser:
         i = self.i if i is None else i
         return _tdescribe(self.k[i], self.t[i])
 
+    def unbalanced(self) -> str:
+        return "unbalanced brackets: " if self.k[self.i] in ("eof", ".") else ""
+
     def where(self, i):
         ln, col = self.src.linecol(self.o[i])
         return f"line {ln}, column {col}"
@@ -180,9 +183,15 @@ class TptpParser:
                 raise self.err(f"'{self.t[self.i]}' cannot follow here without "
                                "parentheses: TPTP needs them when connectives are "
                                "mixed or a non-associative one is chained")
-            raise self.err(f"unbalanced brackets: expected ')' to close '{dialect}(' at "
-                           f"{self.where(open_i)}, found {self.found()}")
+            if self.k[self.i] in ("eof", "."):
+                raise self.err(f"unbalanced brackets: the '{dialect}(' at "
+                               f"{self.where(open_i)} is never closed")
+            raise self.err(f"expected ')' to end the {dialect} statement begun at "
+                           f"{self.where(start)} (or ',' before its annotations), "
+                           f"found {self.found()}")
         self.i += 1
+        if self.k[self.i] == ")":
+            raise self.err("unbalanced brackets: this ')' has no matching '('")
         if self.k[self.i] != ".":
             raise self.err(f"expected '.' at the end of the statement, found {self.found()}")
         self.i += 1
@@ -261,7 +270,7 @@ class TptpParser:
                 if self.k[self.i] in _BINARY:
                     raise self.err(f"'{self.t[self.i]}' cannot follow here without "
                                    "parentheses (TPTP does not rank connectives)")
-                raise self.err(f"unbalanced brackets: expected ')' to close the '(' at "
+                raise self.err(f"{self.unbalanced()}expected ')' to close the '(' at "
                                f"{self.where(open_i)}, found {self.found()}")
             self.i += 1
         elif kind == "dollar":
@@ -410,7 +419,7 @@ class TptpParser:
             if kind == ")":
                 self.i += 1
                 break
-            raise self.err(f"unbalanced brackets: expected ',' or ')' in the arguments "
+            raise self.err(f"{self.unbalanced()}expected ',' or ')' in the arguments "
                            f"of '{name}' (opened at {self.where(open_i)}), found "
                            f"{self.found()}")
         self.depth -= 1
