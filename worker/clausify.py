@@ -267,41 +267,30 @@ class _Namer:
         return (tag, node[1], tuple(k for k, _, _ in kids)), p, n
 
     def _visit_iff(self, node, pol):
-        a, pa, na = self.visit(node[2], 0)
-        b, pb, nb = self.visit(node[3], 0)
+        sides = [list(self.visit(node[2], 0)), list(self.visit(node[3], 0))]
 
-        def counts():
-            return pa * nb + na * pb, pa * pb + na * nb
+        def cost():
+            (_, pa, na), (_, pb, nb) = sides
+            return _cost(pa * nb + na * pb, pa * pb + na * nb, pol)
 
-        cost = _cost(*counts(), pol)
-        if cost > self.limit:
-            sides = sorted([(pa + na, 0), (pb + nb, 1)], reverse=True)
-            for size, side in sides:
-                child = a if side == 0 else b
+        now = cost()
+        if now > self.limit:
+            # the larger side first (the right one on a tie)
+            for i in sorted((0, 1), key=lambda i: (-sum(sides[i][1:]), -i)):
+                child, p, n = sides[i]
                 if child[0] == 'L':
                     continue
-                if side == 0:
-                    old = (pa, na)
-                    pa = na = 1
-                else:
-                    old = (pb, nb)
-                    pb = nb = 1
-                new = _cost(*counts(), pol)
-                if new + size >= cost:            # not worth it: undo
-                    if side == 0:
-                        pa, na = old
-                    else:
-                        pb, nb = old
+                sides[i] = [child, 1, 1]
+                new = cost()
+                if new + p + n >= now:           # not worth it
+                    sides[i] = [child, p, n]
                     continue
-                if side == 0:
-                    a = self.name(a, 0)
-                else:
-                    b = self.name(b, 0)
-                cost = new
-                if cost <= self.limit:
+                sides[i][0] = self.name(child, 0)
+                now = new
+                if now <= self.limit:
                     break
-        p, n = counts()
-        return ('E', node[1], a, b), p, n
+        (a, pa, na), (b, pb, nb) = sides
+        return ('E', node[1], a, b), pa * nb + na * pb, pa * pb + na * nb
 
 
 # ------------------------------------------------------------------ step 3
