@@ -93,7 +93,8 @@ def main(argv=None) -> int:
             if exp and st != exp:
                 mark = f"   (expected {exp})"
             figs = res.get("figures") or {}
-            print(f"{os.path.basename(path):28s} {st:20s} {res['seconds']:7.2f} s  "
+            print(f"{os.path.basename(path):28s} {st:20s} {res['seconds']:7.2f} s "
+                  f"(cpu {figs.get('cpu_seconds', 0):6.2f})  "
                   f"{res.get('strategy') or '-':14s} given {figs.get('given', 0)}{mark}",
                   flush=True)
             rows.append((path, exp, res))
@@ -102,6 +103,11 @@ def main(argv=None) -> int:
     given = sum((r.get("figures") or {}).get("given", 0) for _p, _e, r in rows)
     cpu = sum((r.get("figures") or {}).get("cpu_seconds", 0) for _p, _e, r in rows)
     print()
+    try:
+        load = " (load average at the end %.1f)" % os.getloadavg()[0]
+    except OSError:
+        load = ""
+    print(f"CPU seconds of the engines in all: {cpu:.1f}{load}")
     print(f"solved {len(solved)} of {len(rows)}; total {sum(secs):.1f} s, "
           f"median {statistics.median(secs) if secs else 0:.2f} s, "
           f"median of solved {statistics.median([r['seconds'] for r in solved]) if solved else 0:.2f} s; "
