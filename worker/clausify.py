@@ -629,8 +629,9 @@ def _clausify(problem, conjecture, naming_limit):
             budget.literals += len(lits)
             budget.check(budget.clauses, budget.literals, st)
             used = {}
-            for _, atom in lits:
-                term_symbols(atom, used)
+            if mine or defs_here:
+                for _, atom in lits:
+                    term_symbols(atom, used)
             clauses.append(InputClause(
                 lits=lits, source=st.name, role=st.role, conj=conj,
                 skolems=tuple(n for n in mine if n in used),
