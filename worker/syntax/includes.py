@@ -48,6 +48,10 @@ def detect_language(text: str, name: str = "") -> str:
     return "native"
 
 
+class OutsideError(InputError):
+    """A path a reader refuses to open (outside its bundle, folder or library)."""
+
+
 def _norm(path: str) -> str:
     p = posixpath.normpath(path.replace("\\", "/")) if path else path
     return p
@@ -105,6 +109,10 @@ class Loader:
             text = self._get(main)
         except FileNotFoundError:
             raise InputError(f"cannot read '{main}': no such file") from None
+        except InputError as e:
+            if e.span is not None:
+                raise
+            raise type(e)(e.message, Span(main, 1, 1), None, e.hint) from None
         if self.record is not None:
             self.record(main, text)
         statements = self.check_names(self.parse_file(main, text, top=True))
@@ -171,19 +179,24 @@ class Loader:
                 break
             except FileNotFoundError:
                 continue
-            except InputError as e:
+            except OutsideError as e:
                 if refusal is None:
                     refusal = e
                 continue
+            except InputError as e:
+                if e.span is not None:
+                    raise
+                raise src.error(e.message, offset, e.hint, type(e)) from None
         if found is None:
-            if refusal is not None and len(cands) == 1:
-                raise src.error(refusal.message, offset, refusal.hint)
             looked = ", ".join(f"'{c}'" for c in cands)
-            hint = refusal.message if refusal is not None else (
-                "include paths are relative to the including file" +
-                ("" if self.include_root else
-                 "; TPTP axiom libraries are found through --include-root "
-                 "or NIGHTJAR_TPTP_ROOT"))
+            if refusal is not None:
+                raise src.error(refusal.message, offset,
+                                f"looked for {looked}; includes may not leave the "
+                                f"problem's files or the axiom library", OutsideError)
+            hint = ("include paths are relative to the including file" +
+                    ("" if self.include_root else
+                     "; TPTP axiom libraries are found through --include-root "
+                     "or NIGHTJAR_TPTP_ROOT"))
             raise src.error(f"include file '{path}' not found (looked for {looked})",
                             offset, hint)
         if found in self.stack:
@@ -242,8 +255,19 @@ def _read_disk(path: str) -> str:
     if size > MAX_FILE_CHARS:
         raise LimitError(f"'{path}' is {size:,} bytes long; the limit is "
                          f"{MAX_FILE_CHARS:,} (20 MB) per file")
-    with open(path, encoding="utf-8") as fh:
-        return fh.read()
+    with open(path, "rb") as fh:
+        data = fh.read()
+    try:
+        return data.decode("utf-8")
+    except UnicodeDecodeError as e:
+        line = data.count(b"\n", 0, e.start) + 1
+        start = data.rfind(b"\n", 0, e.start) + 1
+        col = len(data[start:e.start].decode("utf-8", "replace")) + 1
+        end = data.find(b"\n", e.start)
+        text = data[start:end if end >= 0 else len(data)].decode("utf-8", "replace")
+        raise InputError(f"the file is not UTF-8 text: byte 0x{data[e.start]:02x} "
+                         f"cannot start or continue a character", Span(path, line, col),
+                         text, "save the file as UTF-8") from None
 
 
 def _confined(path: str, root: str) -> str:
@@ -256,7 +280,7 @@ def _confined(path: str, root: str) -> str:
     except ValueError:
         ok = False
     if not ok:
-        raise InputError(f"'{path}' lies outside the folder '{root}' and is not read")
+        raise OutsideError(f"'{path}' lies outside the folder '{root}' and is not read")
     return real
 
 
@@ -285,7 +309,7 @@ def bundle_reader(files: dict, library: str | None = None):
             real = _confined(key, lib)
             return _read_disk(real)
         if _escapes(key):
-            raise InputError(f"'{path}' lies outside the bundle: only the files sent "
+            raise OutsideError(f"'{path}' lies outside the bundle: only the files sent "
                              f"with the problem" + (" and the axiom library" if lib else "")
                              + " can be included")
         raise FileNotFoundError(path)
