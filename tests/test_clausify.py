@@ -82,6 +82,14 @@ def test_skolem_names_are_fresh():
     assert sorted(texts(cp)) == sorted([f"p({name})", "p(sk1)", "def1"])
 
 
+def test_suffixes_skip_every_used_name():
+    f = And((exists([0], A("p", 0)), exists([1], A("q", 1)),
+             A("r", "sk1", "sk1_1", "sk2")))
+    cp = clausify(problem(("a", "axiom", f)), None)
+    assert list(cp.skolems) == ["sk1_2", "sk2_1"]
+    assert texts(cp) == ["p(sk1_2)", "q(sk2_1)", "r(sk1, sk1_1, sk2)"]
+
+
 def test_fresh_against_signature_too():
     sig = {"sk1": Symbol("sk1", "function", 2)}
     cp = clausify(problem(("a", "axiom", exists([0], A("p", 0))),
