@@ -533,3 +533,15 @@ def test_high_arity_lowers_the_largest_size_and_says_so(monkeypatch):
         s.run()
     assert s.sizes_excluded == [1, 3, 4, 5]
     assert not s.exhausted and "sizes above 5 skipped" in s.reason
+
+
+def test_display_marks_elements_when_constants_are_numerals():
+    model = {"size": 2, "predicates": {}, "functions": {
+        "0": {"arity": 0, "values": [[[], 1]]},
+        "+": {"arity": 2, "values": [[[x, y], (x + y) % 2] for x in range(2) for y in range(2)]}}}
+    text = format_model(model)
+    lines = text.splitlines()
+    assert lines[0] == "Domain: {#0, #1} (2 elements)"
+    assert "0 = #1" in lines
+    assert any(l.strip().startswith("+  | #0 #1") for l in lines)
+    assert "x + y  (row x, column y):" in lines
