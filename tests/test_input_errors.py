@@ -277,3 +277,20 @@ def test_token_soup_gives_an_input_error_or_a_problem_that_reads_back(head, piec
         return
     q = parse_text(format_problem(p), language="native")
     assert [s.formula for s in p.statements] == [s.formula for s in q.statements]
+
+
+def test_non_utf8_file_points_at_the_bad_byte(tmp_path, capsys):
+    f = tmp_path / "latin.nj"
+    f.write_bytes(b"axiom a: p\naxiom b: caf\xe9\n")
+    with pytest.raises(InputError) as e:
+        load_problem(str(f))
+    assert "not UTF-8" in e.value.message and where(e.value) == (2, 13)
+    m = tmp_path / "m.nj"
+    m.write_text('include "latin.nj"\n')
+    code, out, err = run(["check", str(m)], capsys)
+    assert code == 1 and f"{f}:2:13: error: the file is not UTF-8 text" in err
+
+
+def test_a_folder_is_not_a_file(tmp_path, capsys):
+    code, out, err = run(["check", str(tmp_path)], capsys)
+    assert code == 1 and "it is a folder" in err and f"{tmp_path}:1:1" in err
