@@ -19,6 +19,7 @@ the end.
 from __future__ import annotations
 
 import argparse
+import functools
 import os
 import statistics
 import sys
@@ -27,6 +28,7 @@ import threading
 import time
 from pathlib import Path
 
+print = functools.partial(print, flush=True)  # noqa: A001 (figures as they come)
 ROOT = Path(__file__).resolve().parent.parent
 sys.path.insert(0, str(ROOT))
 
@@ -85,6 +87,17 @@ class Bench:
         assert b["states"]["done"] == b["total"], b["states"]
         return dt, b
 
+    def rq_noop(self, n):
+        """The same number of no-op RQ jobs on the same workers: RQ's own
+        cost per job (fork of a work horse and its bookkeeping)."""
+        from rq import Queue
+        q = Queue("nj-batch", connection=connect(self.rp.url))
+        t0 = time.perf_counter()
+        jobs = [q.enqueue("os.getpid") for _ in range(n)]
+        while any(j.get_status(refresh=True) != "finished" for j in jobs[-2:]):
+            time.sleep(0.02)
+        return time.perf_counter() - t0
+
     def close(self):
         stop_processes(self.workers, timeout=5)
         self.server.close()
@@ -112,6 +125,7 @@ def main():
                     help="copies of the CPU-bound problem set in the scaling batch")
     args = ap.parse_args()
     med = statistics.median
+    print(f"load average before: {os.getloadavg()[0]:.1f} on {os.cpu_count()} cores")
     with tempfile.TemporaryDirectory(prefix="nj-bench-") as tmp:
         b = Bench(Path(tmp))
         try:
@@ -120,6 +134,7 @@ def main():
             b.set_workers(1)
             b.run(trivial(5))                      # warm up
             one = [b.run(probs)[0] for _ in range(args.repeat)]
+            noop = [b.rq_noop(args.jobs) for _ in range(args.repeat)]
             b.set_workers(2)
             two = [b.run(probs)[0] for _ in range(args.repeat)]
             n = args.jobs
@@ -128,6 +143,8 @@ def main():
             print(f"  service, 1 worker    {med(one):7.2f} s  {n / med(one):8.1f} jobs/s"
                   f"  ({(med(one) - med(local)) / n * 1000:.1f} ms added per job)")
             print(f"  service, 2 workers   {med(two):7.2f} s  {n / med(two):8.1f} jobs/s")
+            print(f"  RQ alone, no-op jobs {med(noop):7.2f} s  {n / med(noop):8.1f} jobs/s"
+                  f"  (1 worker: RQ's own cost per job {med(noop) / n * 1000:.1f} ms)")
             print(f"  overhead ratio (service 1 worker / in process): {med(one) / med(local):.2f}")
 
             cpu = [bundle_of(str(ROOT / p), str(ROOT)) for p in CPU_PROBLEMS] * args.cpu_copies

@@ -180,6 +180,31 @@ def preload() -> None:
             importlib.import_module(name)
         except ImportError as e:
             log.info("preload %s: %s", name, e)
+    warm_up()
+    import gc
+    gc.collect()
+    gc.freeze()      # the horses' collections leave these objects (and their pages) alone
+
+
+WARM_UP = ("conjecture g: p implies p\n",
+           "axiom a: forall x. f(x) = x\naxiom b: p(c)\nconjecture g: p(f(c))\n",
+           "axiom a: p(c)\nconjecture g: q(c)\n")
+
+
+def warm_up() -> None:
+    """Decide a few tiny problems once in the worker: the engine's first
+    call pays for lazy set-up (a tenth of a second) that every forked work
+    horse would otherwise pay again."""
+    try:
+        from worker.pipeline import decide
+        from worker.syntax import parse_text
+        from worker.verdict import Limits, Settings
+        for text in WARM_UP:
+            p = parse_text(text, "warm-up.nj")
+            for c in p.obligations():
+                decide(p, c, Settings(limits=Limits(time=5)))
+    except Exception as e:      # never keep a worker from starting
+        log.info("warm-up: %s", e)
 
 
 def run_worker(url: str, config: Config, *, burst: bool = False,
