@@ -197,3 +197,10 @@ def test_random_problems_read_back(stmts):
     assert [s.name for s in back.statements] == [s.name for s in stmts]
     for a, b in zip(stmts, back.statements):
         assert b.formula == renumber(a.formula)
+
+
+def test_degenerate_junctions_print_readably():
+    # the readers never build these, other passes might
+    assert format_formula(And(())) == "true" and format_formula(Or(())) == "false"
+    f = And((Or((Atom("p"), Atom("q"))),))
+    assert parse_text("axiom a: " + format_formula(f)).statements[0].formula == f.args[0]

@@ -169,6 +169,11 @@ def _fmt(f, nm: _Names, ctx: int) -> str:
         for (v, old), name in zip(reversed(olds), reversed(vs)):
             nm.unbind(v, name, old)
         return f"({s})" if ctx > 0 else s
+    if isinstance(f, (And, Or)) and len(f.args) < 2:
+        # not made by the readers; printed so that it still reads back
+        if not f.args:
+            return "true" if isinstance(f, And) else "false"
+        return _fmt(f.args[0], nm, ctx)
     if isinstance(f, And):
         s = " and ".join(_fmt(a, nm, _P_AND + 1) for a in f.args)
         return f"({s})" if _P_AND < ctx else s
