@@ -207,6 +207,16 @@ def warm_up() -> None:
         log.info("warm-up: %s", e)
 
 
+def _horse_killed_handler():
+    """service.horse_guard (hardening): a horse that died of exhausted memory
+    inside a C extension gets MemoryOut instead of a retry."""
+    try:
+        from .horse_guard import horse_killed
+    except ImportError:
+        return None
+    return horse_killed
+
+
 def run_worker(url: str, config: Config, *, burst: bool = False,
                sweeper: bool = True, log_level: str = "WARNING") -> int:
     """The ``nightjar worker`` loop: an RQ worker on both queues
@@ -227,7 +237,8 @@ def run_worker(url: str, config: Config, *, burst: bool = False,
                 r.ping()
                 wait = 1.0               # Redis answers: back to a short pause
                 w = Worker([Queue(n, connection=r) for n in QUEUES], connection=r,
-                           name=worker_name())
+                           name=worker_name(),
+                           work_horse_killed_handler=_horse_killed_handler())
                 w.work(burst=burst, logging_level=log_level, with_scheduler=False)
                 if burst or getattr(w, "_stop_requested", False):
                     return 0
