@@ -79,7 +79,9 @@ def sweep(store: Store, dispatcher: Dispatcher, config: Config) -> list[tuple[st
     """Settle running jobs whose attempt stopped saying it is alive (its
     worker was killed, its machine lost): retry once, then fail with the
     reason.  Safe to run anywhere, any number of times at once: every change
-    is a guarded transition.  Returns [(job id, "retried" | "failed")]."""
+    is a guarded transition.  An attempt that ran past its time limit plus
+    the grace period is settled as Timeout instead.  Returns
+    [(job id, "retried" | "failed" | "timed out")]."""
     out = []
     for jid in store.running_jobs():
         if store.is_alive(jid):
@@ -90,6 +92,17 @@ def sweep(store: Store, dispatcher: Dispatcher, config: Config) -> list[tuple[st
             continue
         attempts = int(rec.get("attempts") or 0)
         who = rec.get("worker") or "?"
+        started = float(rec.get("started") or 0)
+        hard_stop = started + float(rec.get("time_limit") or 0) + config.grace_seconds
+        if started and time.time() >= hard_stop:
+            # it ran past its time limit and the grace period: RQ's hard stop
+            # (or the monitor) ended it; that is a Timeout, not a lost worker
+            reason = ("hard stop: the attempt did not return within the time limit "
+                      "plus the grace period, so its work horse was stopped")
+            if store.finish(jid, attempts, {"status": "Timeout", "reason": reason,
+                                            "seconds": round(time.time() - started, 4)}):
+                out.append((jid, "timed out"))
+            continue
         if attempts < config.max_attempts:
             reason = (f"attempt {attempts} was lost (worker {who} stopped "
                       f"answering); retried")

@@ -155,3 +155,16 @@ def test_stranded_queue_entry_is_sent_again(st):
     store.r.hset(f"rq:job:{rq_id(a, 1, 1)}", "status", "started")
     assert sweep_stranded(store, disp, min_age=0) == []
     assert store.r.zscore(store.K_QUEUED, a) is None
+
+
+def test_sweeper_settles_an_attempt_past_its_hard_stop_as_timeout(st):
+    store, disp = st
+    bid, (a, _) = make(st)                    # time limit 2 s, grace 10 s
+    store.start_attempt(a, "w1", 10)
+    store.r.hset(store.k_job(a), "started", str(__import__("time").time() - 13))
+    store.r.delete(store.k_alive(a))
+    assert sweep(store, disp, CFG) == [(a, "timed out")]
+    j = store.get_job(a)
+    assert (j["state"], j["verdict"], j["attempts"]) == ("done", "Timeout", 1)
+    assert "hard stop" in j["reason"]
+    assert store.get_batch(bid)["verdicts"] == {"Timeout": 1}

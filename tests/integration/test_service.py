@@ -94,7 +94,7 @@ def test_worker_killed_mid_job_is_retried_and_settles(api, workers):
     w1, = workers.start(1)
     c = owner(api)
     sub = c.submit({"problem": {"main": "slow.nj", "files": {"slow.nj": SLOW}},
-                    "time_limit": 3})
+                    "time_limit": 5})
     jid = sub["jobs"][0]["id"]
     wait_until(lambda: c.job(jid)["state"] == "running", 20, what="the job to start")
     time.sleep(0.5)
