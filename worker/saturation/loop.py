@@ -383,7 +383,8 @@ class Saturation:
                 if d.id in seen or len(d.lits) > n:
                     continue
                 seen.add(d.id)
-                if may_subsume(d, c) and R.subsumes(d.lits, c.lits, self.eq) is not None:
+                if may_subsume(d, c) and R.subsumes(d.lits, c.lits, self.eq,
+                                                    d.key or 0) is not None:
                     return True
         return False
 
@@ -467,7 +468,7 @@ class Saturation:
             self.check()
             if d is g or not d.alive or not d.active or len(d.lits) < len(lits):
                 continue
-            if may_subsume(g, d) and R.subsumes(lits, d.lits, self.eq) is not None:
+            if may_subsume(g, d) and R.subsumes(lits, d.lits, self.eq, g.key or 0) is not None:
                 self.kill(d)
                 self.fig["backward_deleted"] += 1
 

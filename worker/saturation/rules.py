@@ -266,13 +266,16 @@ def _search(table, s: dict, used: list):
     return go(0, s)
 
 
-def subsumes(c_lits, d_lits, eq_builtin: bool = True):
+def subsumes(c_lits, d_lits, eq_builtin: bool = True, first: int = 0):
     """Subsumption: a matcher ``m`` with ``m(C)`` a sub-multiset of ``D``
     (each literal of ``C`` onto a different literal of ``D``), or None.
-    Variables of ``D`` count as constants."""
+    Variables of ``D`` count as constants.  ``first``: the literal of ``C``
+    to try first (the most specific one fails fastest)."""
     if len(c_lits) > len(d_lits):
         return None
     table = []
+    if first:
+        c_lits = (c_lits[first],) + c_lits[:first] + c_lits[first + 1:]
     for pl in c_lits:
         row = [(j, m) for j, tl in enumerate(d_lits)
                for m in _lit_matchers(pl, tl, eq_builtin)]

@@ -55,9 +55,9 @@ STRATEGIES = {s.name: s for s in (
 # gets a short slice (goal-directed, incomplete); ``all-negative`` takes the
 # rest.
 DEFAULT_SCHEDULE = (
-    ("rewrite", 0.35),
-    ("steady", 0.4),
-    ("goal-first", 0.2),
+    ("rewrite", 0.45),
+    ("steady", 0.5),
+    ("goal-first", 0.3),
     ("all-negative", 1.0),
 )
 
