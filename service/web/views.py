@@ -765,7 +765,7 @@ def model_view(model: dict) -> dict:
         if k == 0:
             out["constants"].append({"name": f, "value": t.get((), "?")})
         elif k == 1:
-            out["unary"].append({"name": f, "values": [t.get((x,), "?") for x in dom]})
+            out["unary"].append({"name": f, "vals": [t.get((x,), "?") for x in dom]})
         elif k == 2:
             out["binary"].append({"name": f, "infix": f in ("*", "+"),
                                   "rows": [[t.get((x, y), "?") for y in dom] for x in dom]})
@@ -777,7 +777,7 @@ def model_view(model: dict) -> dict:
         if k == 0:
             out["props"].append({"name": p, "value": bool(t.get((), False))})
         elif k == 1:
-            out["unary_p"].append({"name": p, "values": [bool(t.get((x,), False)) for x in dom]})
+            out["unary_p"].append({"name": p, "vals": [bool(t.get((x,), False)) for x in dom]})
         elif k == 2:
             out["binary_p"].append({"name": p, "rows": [[bool(t.get((x, y), False)) for y in dom]
                                                         for x in dom]})
@@ -797,7 +797,7 @@ def model(jid):
     if m is None:
         abort(404, f"job {jid} has no model" + (f" (its verdict is {rec['verdict']})"
                                                  if rec.get("verdict") else " yet"))
-    return render_template("model.html", j=rec, name=_name(rec), m=model_view(m),
+    return render_template("model.html", j=rec, name=_name(rec), mv=model_view(m),
                            text=A.format_model_text(m))
 
 
