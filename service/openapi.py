@@ -204,9 +204,13 @@ def paths() -> dict:
             "The caller's batches, newest first", 200,
             json_resp("one page", obj({"batches": arr(ref("Batch")), "offset": I,
                                        "limit": I})), 400, params=PAGING, tags=("batches",))},
-        "/api/batches/{bid}": {"get": op(
-            "A batch: counts per state and verdict, progress", 200,
-            json_resp("the batch", ref("Batch")), 404, params=(BID,), tags=("batches",))},
+        "/api/batches/{bid}": {
+            "get": op("A batch: counts per state and verdict, progress", 200,
+                      json_resp("the batch", ref("Batch")), 404, params=(BID,),
+                      tags=("batches",)),
+            "delete": op("Delete a settled batch, its jobs and their results", 200,
+                         json_resp("what was deleted", obj({"batch": S, "deleted_jobs": I})),
+                         404, 409, params=(BID,), tags=("batches",))},
         "/api/batches/{bid}/jobs": {"get": op(
             "A batch's jobs, filtered and paged", 200,
             json_resp("one page", obj({"batch": S, "total": I, "offset": I, "limit": I,
