@@ -1,6 +1,7 @@
 """Each inference and simplification rule on hand-made examples, and the
 term indexes against a linear scan."""
 
+import pytest
 from hypothesis import given, settings, strategies as st
 
 from worker.saturation import rules as R
@@ -127,8 +128,10 @@ class _Alive:
 
 @given(st.lists(terms(), min_size=1, max_size=25), terms())
 @settings(max_examples=150, deadline=None)
-def test_fingerprint_index_misses_nothing(entries, q):
-    ix = FingerprintIndex()
+@pytest.mark.parametrize("positions", ["deep", "shallow"])
+def test_fingerprint_index_misses_nothing(positions, entries, q):
+    from worker.saturation.index import POSITIONS, SHALLOW
+    ix = FingerprintIndex(POSITIONS if positions == "deep" else SHALLOW)
     holder = _Alive()
     for k, t in enumerate(entries):
         ix.insert(t, (holder, k))
@@ -150,5 +153,6 @@ def test_fingerprint_index_misses_nothing(entries, q):
 @given(terms())
 @settings(max_examples=200, deadline=None)
 def test_unrolled_fingerprint_agrees(t):
-    from worker.saturation.index import fingerprint, fingerprint8
+    from worker.saturation.index import SHALLOW, fingerprint, fingerprint4, fingerprint8
     assert fingerprint8(t) == fingerprint(t)
+    assert fingerprint4(t) == fingerprint(t, SHALLOW)

@@ -26,6 +26,7 @@ from __future__ import annotations
 VAR, BELOW, NONE = 1, 2, 3
 
 POSITIONS = ((), (1,), (2,), (3,), (1, 1), (1, 2), (2, 1), (2, 2))
+SHALLOW = ((), (1,), (2,), (3,))     # for small indexes (demodulators): a shorter walk
 
 
 def fingerprint(t, positions=POSITIONS) -> tuple:
@@ -96,6 +97,25 @@ def _direct(q, mode):
     return (NONE,) if q == NONE else None
 
 
+def fingerprint4(t) -> tuple:
+    """:func:`fingerprint` at the positions ``SHALLOW``, unrolled."""
+    tt = type(t)
+    if tt is int:
+        return (VAR, BELOW, BELOW, BELOW)
+    if tt is str:
+        return (t, NONE, NONE, NONE)
+    n = len(t)
+    out = [t[0]]
+    for i in (1, 2, 3):
+        if i < n:
+            a = t[i]
+            ta = type(a)
+            out.append(VAR if ta is int else a if ta is str else a[0])
+        else:
+            out.append(NONE)
+    return tuple(out)
+
+
 def fingerprint8(t) -> tuple:
     """:func:`fingerprint` at the default positions, unrolled."""
     tt = type(t)
@@ -139,18 +159,23 @@ def fingerprint8(t) -> tuple:
 
 
 class FingerprintIndex:
-    __slots__ = ("root", "size", "dead", "positions")
+    __slots__ = ("root", "size", "dead", "positions", "_fp")
 
     def __init__(self, positions=POSITIONS):
         self.root: dict = {}
         self.size = 0
         self.dead = 0
         self.positions = positions
+        if positions is POSITIONS:
+            self._fp = fingerprint8
+        elif positions is SHALLOW:
+            self._fp = fingerprint4
+        else:
+            self._fp = lambda t: fingerprint(t, positions)
 
     def insert(self, term, value) -> None:
         node = self.root
-        fp = fingerprint(term, self.positions) if self.positions is not POSITIONS \
-            else fingerprint8(term)
+        fp = self._fp(term)
         for f in fp[:-1]:
             nxt = node.get(f)
             if nxt is None:
@@ -164,8 +189,7 @@ class FingerprintIndex:
 
     def _retrieve(self, query, mode):
         ok = _OK[mode]
-        fp = fingerprint(query, self.positions) if self.positions is not POSITIONS \
-            else fingerprint8(query)
+        fp = self._fp(query)
         last = len(fp) - 1
         out = []
         stack = [(self.root, 0)]

@@ -24,7 +24,7 @@ from worker.syntax.terms import EQ, apply, rename, subterms
 
 from . import rules as R
 from .clause import Clause, may_cut, may_subsume, normalize
-from .index import FingerprintIndex, LinearIndex
+from .index import SHALLOW, FingerprintIndex, LinearIndex
 from .kbo import KBO
 from .strategy import Strategy
 from .unify import match, unify, instantiate
@@ -87,7 +87,7 @@ class Saturation:
         self.res = {True: I(), False: I()}
         self.sup_from = I()
         self.sup_into = I()
-        self.demod = I()
+        self.demod = I(SHALLOW)
         self.subkey = {True: I(), False: I()}
         self.alllits = {True: I(), False: I()}
         self.allterms = I()
@@ -99,7 +99,10 @@ class Saturation:
                          self.units[False]]
         self.next_id = 1
         self.max_vars = 0
-        self.irreducible: set = set()   # terms no active unit equation rewrites
+        # term -> number of demodulators when it was last found irreducible:
+        # only demodulators added later need to be tried on it again
+        self.irreducible: dict = {}
+        self.demod_seq = 0
         self.cut_max = CUT_MAX_LITS
         self.wheap: list = []
         self.aheap: list = []
@@ -237,17 +240,18 @@ class Saturation:
                         self.sup_from.insert(l, (c, i, side))
         if len(lits) == 1 and lits[0][0] and self.is_eq(lits[0][1]):
             _s, (_e, l, r) = lits[0]
-            self.irreducible.clear()
+            self.demod_seq += 1
+            q = self.demod_seq
             cmp = kbo.compare(l, r)
             if cmp == ">":
-                self.demod.insert(l, (c, 0, True))
+                self.demod.insert(l, (c, 0, True, q))
             elif cmp == "<":
-                self.demod.insert(r, (c, 1, True))
+                self.demod.insert(r, (c, 1, True, q))
             elif cmp is None:
                 if type(l) is not int:
-                    self.demod.insert(l, (c, 0, False))
+                    self.demod.insert(l, (c, 0, False, q))
                 if type(r) is not int:
-                    self.demod.insert(r, (c, 1, False))
+                    self.demod.insert(r, (c, 1, False, q))
         ks, ka = lits[c.key]
         self.subkey[ks].insert(ka, (c, c.key))
         if self.is_eq(ka):
@@ -326,8 +330,11 @@ class Saturation:
         return None
 
     def _find(self, t, pos, c, guard):
-        if type(t) is int or t in self.irreducible:
+        if type(t) is int:
             return None
+        seen = self.irreducible.get(t)
+        if seen == self.demod_seq:
+            return None          # no demodulator can rewrite t or its subterms
         if type(t) is tuple:
             for k in range(1, len(t)):
                 found = self._find(t[k], pos + (k,), c, guard)
@@ -335,8 +342,10 @@ class Saturation:
                     return found
         kbo = self.kbo
         blocked = False
-        for l, (a, side, oriented) in self.demod.generalizations(t):
+        for l, (a, side, oriented, seq) in self.demod.generalizations(t):
             self.check()
+            if seen is not None and seq <= seen:
+                continue         # already tried on t when it was found irreducible
             if a is c:
                 blocked = True
                 continue
@@ -357,7 +366,7 @@ class Saturation:
         if not blocked:
             if len(self.irreducible) > 200_000:
                 self.irreducible.clear()
-            self.irreducible.add(t)
+            self.irreducible[t] = self.demod_seq
         return None
 
     def demodulate(self, c: Clause) -> Clause:
