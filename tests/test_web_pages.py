@@ -287,6 +287,7 @@ def test_submit_a_problem_and_read_every_page(env):
     g, h = ids
     job = env.get(f"/jobs/{g}")
     assert 'id="L1"' in job and 'id="L4"' in job          # numbered lines
+    assert '<tr id="L3" class="this-conjecture"' in job    # g is on line 3
     assert "axiom a1: forall x. p(x) implies q(x)" in job
     assert "proof replayed" in job and 'id="proof-link"' in job
     assert "Attempts" in job and 'id="cancel"' not in job
@@ -357,6 +358,9 @@ def test_input_error_is_shown_at_its_line_and_nothing_is_queued(env):
     assert err.startswith("mine.nj:2:")
     assert "axiom a2: p(c) and and" in err and "^" in err
     assert "nothing was queued" in page
+    marked = re.search(r'<tr class="error-line" id="error-line"><td class="ln">(\d+)</td><td><code>(.*?)</code>',
+                       page).groups()
+    assert marked == ("2", "axiom a2: p(c) and and")
     assert "p(c) and and\nconjecture g: p(c)\n</textarea>" in page     # the text is kept
     assert env.store.owner_batches("alice") == []
 

@@ -581,8 +581,13 @@ def job(jid):
     rec = A._job_or_404(jid)
     bundle = _bundle_of(jid)
     files = []
+    mark = None
     if bundle:
         prefixes = _anchor_prefixes(bundle)
+        if rec.get("conjecture"):
+            place = statement_places(bundle).get(rec["conjecture"])
+            if place and place[0] in prefixes:
+                mark = (prefixes[place[0]], place[1])
         for name, prefix in prefixes.items():
             lines, n = _numbered(bundle["files"][name])
             files.append({"name": name, "prefix": prefix, "lines": lines, "count": n,
@@ -591,7 +596,7 @@ def job(jid):
         {"proof": None, "model": None, "figures": {}}
     figures = res.get("figures") or {}
     return render_template(
-        "job.html", j=rec, name=_name(rec), files=files, figures=figures,
+        "job.html", j=rec, name=_name(rec), files=files, figures=figures, mark=mark,
         has_proof=res.get("proof") is not None, has_model=res.get("model") is not None,
         settings=rec.get("settings") or {}, cert=rec.get("certificate") or {},
         running=rec["state"] in ("queued", "running"), live=rec["state"] not in FINAL_STATES,
@@ -875,6 +880,26 @@ def submission_body(form, files) -> dict:
     return body
 
 
+def error_listing(body: dict, file: str | None, line: int | None, around: int = 3):
+    """The lines near an input error, numbered, the error's line marked (for
+    the pasted or uploaded text the error is in)."""
+    if not file or not line:
+        return None
+    texts = {}
+    for b in ([body.get("problem")] + list(body.get("problems") or []) + [body.get("axioms")]):
+        if b:
+            texts.update(b["files"])
+    for c in body.get("conjectures") or []:
+        texts[c["name"]] = c["text"]
+    text = texts.get(file)
+    if text is None:
+        return None
+    lines = text.split("\n")
+    lo, hi = max(1, line - around), min(len(lines), line + around)
+    return {"file": file, "line": line,
+            "lines": [(n, lines[n - 1]) for n in range(lo, hi + 1)]}
+
+
 def call_submit(body: dict):
     """Run the JSON API's submission view on ``body`` for the signed-in
     owner: the same reading, checks, limits and storage as ``POST
@@ -901,7 +926,7 @@ def submit():
     cfg = svc().config
     ctx = {"strategies": _strategies(), "default_time": cfg.default_time_limit,
            "max_time": cfg.max_time_limit, "form": request.form, "error": None,
-           "error_text": None}
+           "error_text": None, "error_listing": None}
     if request.method == "GET":
         return render_template("submit.html", **ctx)
     try:
@@ -916,6 +941,7 @@ def submit():
         if err.get("code") == "input_error":
             ctx["error_text"] = err.get("text")
             ctx["error"] = "The input has an error; nothing was queued."
+            ctx["error_listing"] = error_listing(body, err.get("file"), err.get("line"))
         return render_template("submit.html", **ctx), status
     if len(out["jobs"]) == 1:
         return redirect(url_for("web.job", jid=out["jobs"][0]["id"]), code=303)
