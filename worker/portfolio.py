@@ -77,12 +77,15 @@ def run(cp, settings, deadline: float) -> dict:
     cpu_deadline = (time.process_time() + lim.cpu) if lim.cpu else None
     totals = {k: 0 for k in _SUM}
     tried = []
+    notes: list = []
 
     def finish(out):
         figs = dict(out.get("figures") or {})
         for k in _SUM:
             figs[k] = round(totals[k], 4) if k == "cpu_seconds" else totals[k]
         figs["strategies_tried"] = len(tried)
+        if notes:
+            figs["notes"] = notes
         figs["seconds"] = round(time.monotonic() - t0, 4)
         out["figures"] = figs
         return out
@@ -99,6 +102,10 @@ def run(cp, settings, deadline: float) -> dict:
             m = ms.run(end)
         except MemoryError:
             ms = None
+            return None
+        except Exception as e:   # a failing model search must not stop the proof search
+            ms = None
+            notes.append(f"model search stopped: {type(e).__name__}: {e}")
             return None
         totals["cpu_seconds"] += time.process_time() - c0
         if m is not None:
