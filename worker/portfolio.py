@@ -85,7 +85,7 @@ def run(cp, settings, deadline: float) -> dict:
             figs[k] = round(totals[k], 4) if k == "cpu_seconds" else totals[k]
         figs["strategies_tried"] = len(tried)
         if notes:
-            figs["notes"] = notes
+            out["reason"] = ((out.get("reason") or "") + " (" + "; ".join(notes) + ")").strip()
         figs["seconds"] = round(time.monotonic() - t0, 4)
         out["figures"] = figs
         return out
