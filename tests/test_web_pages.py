@@ -639,3 +639,20 @@ def test_suites_runs_and_comparison(env, tmp_path):
     assert other.get(f"/runs/{r1}").status_code == 404
     assert other.get("/suites/web-x").status_code == 404
     assert other.get(f"/compare?a={r1}&b={r2}").status_code == 404
+
+
+def test_store_down_is_a_503_page(monkeypatch):
+    monkeypatch.delenv("NIGHTJAR_SECRET_KEY", raising=False)
+    server = fakeredis.FakeServer()
+    r = fakeredis.FakeRedis(server=server)
+    app = create_app(Config(), r)
+    token = Store(r).add_token("alice")
+    c = app.test_client()
+    m = CSRF_RE.search(c.get("/sign-in").get_data(as_text=True))
+    assert c.post("/sign-in", data={"csrf": m.group(1), "token": token}).status_code == 303
+    server.connected = False
+    resp = c.get("/batches")
+    assert resp.status_code == 503 and "not answering" in resp.get_data(as_text=True)
+    fresh = create_app(Config(), fakeredis.FakeRedis(server=server))   # no key yet
+    resp = fresh.test_client().get("/sign-in")
+    assert resp.status_code == 503 and "not answering" in resp.get_data(as_text=True)

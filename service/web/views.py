@@ -28,7 +28,7 @@ from urllib.parse import urlencode
 import redis
 from flask import (Blueprint, Response, abort, current_app, g, jsonify, redirect,
                    render_template, request, session, url_for)
-from flask.sessions import SecureCookieSessionInterface
+from flask.sessions import NullSession, SecureCookieSessionInterface
 from werkzeug.exceptions import HTTPException
 
 from .. import api as A
@@ -139,6 +139,10 @@ def _globals():
 @bp.before_request
 def _before():
     g.web_owner = None
+    if isinstance(session, NullSession) and not request.path.startswith("/web-static/"):
+        # no signing key: it lives in Redis, which did not answer
+        return error_page(503, "the store is not answering, so no session can be "
+                               "opened; try again in a moment")
     sha = session.get("tok")
     if sha:
         owner = owner_of_token_hash(sha)
