@@ -143,3 +143,60 @@ def test_mixing_connectives_needs_parentheses():
         parse_text("fof(a, axiom, p & q | r).")
     with pytest.raises(InputError, match="parentheses"):
         parse_text("fof(a, axiom, p => q => r).")
+
+
+# ------------------------------------------- random formulas through TPTP
+
+from hypothesis import given, settings  # noqa: E402
+
+from tests.test_printer_roundtrip import renumber, statements  # noqa: E402
+from worker.syntax.printer import format_problem  # noqa: E402
+
+
+def tptp_name(s):
+    if s.isdigit() or (s[:1].islower() and s.replace("_", "").isalnum() and s.isascii()):
+        return s
+    return "'" + s.replace("\\", "\\\\").replace("'", "\\'") + "'"
+
+
+def tptp_term(t):
+    if type(t) is int:
+        return f"X{t}"
+    if type(t) is str:
+        return tptp_name(t)
+    return tptp_name(t[0]) + "(" + ", ".join(tptp_term(a) for a in t[1:]) + ")"
+
+
+def tptp_formula(f):
+    """Fully parenthesized TPTP text of a formula (written for this test)."""
+    if isinstance(f, Atom):
+        t = f.term
+        if type(t) is tuple and t[0] == "=":
+            return f"{tptp_term(t[1])} = {tptp_term(t[2])}"
+        return tptp_term(t)
+    if f == TRUE:
+        return "$true"
+    if f == FALSE:
+        return "$false"
+    if isinstance(f, Not):
+        return f"~ ({tptp_formula(f.arg)})"
+    if isinstance(f, (And, Or)):
+        op = " & " if isinstance(f, And) else " | "
+        return "(" + op.join(f"({tptp_formula(a)})" for a in f.args) + ")"
+    if isinstance(f, Implies):
+        return f"(({tptp_formula(f.left)}) => ({tptp_formula(f.right)}))"
+    if isinstance(f, Iff):
+        return f"(({tptp_formula(f.left)}) <=> ({tptp_formula(f.right)}))"
+    q = "!" if f.kind == "forall" else "?"
+    vs = ", ".join(f"X{v}" for v in f.vars)
+    return f"{q} [{vs}] : ({tptp_formula(f.body)})"
+
+
+@settings(max_examples=100, deadline=None)
+@given(statements())
+def test_random_formulas_through_tptp_and_back_to_native(stmt):
+    text = f"fof(s, {stmt.role}, {tptp_formula(stmt.formula)}).\n"
+    p = parse_text(text, name="gen.p")
+    assert p.statements[0].formula == renumber(stmt.formula), text
+    q = parse_text(format_problem(p), language="native")
+    assert q.statements[0].formula == p.statements[0].formula
