@@ -88,3 +88,13 @@ def test_literal_ordering():
     assert k.literal_gt(neg, pos)                                   # not A > A
     assert k.literal_gt((True, ("p", "b")), pos)
     assert k.maximal_literals([pos, neg, (True, ("=", "a", "b"))]) == [1]
+
+
+def test_precedence_and_weights_can_be_overridden():
+    lits = [((True, ("=", ("f", 0), ("g", 0))),)]
+    ar = {"f": 1, "g": 1}
+    assert make_kbo(lits, ar, symbol_order=("f", "g")).gt(("g", 0), ("f", 0))
+    assert make_kbo(lits, ar, symbol_order=("g", "f")).gt(("f", 0), ("g", 0))
+    k = make_kbo(lits, ar, symbol_order=("g", "f"), symbol_weights=(("g", 3), ("f", 0)))
+    assert k.gt(("g", 0), ("f", 0))          # heavier wins; the weight 0 is ignored
+    assert k.weights == {"g": 3}

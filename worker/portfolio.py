@@ -48,7 +48,8 @@ def run_strategy(cp, strat: S.Strategy, deadline: float, *, equality: str = "bui
     """One saturation run; the result has the portfolio's keys."""
     inputs = engine_inputs(cp, equality)
     arities = {n: s.arity for n, s in (cp.signature or {}).items()}
-    kbo = make_kbo([x[0] for x in inputs], arities, strat.precedence, strat.unary_zero)
+    kbo = make_kbo([x[0] for x in inputs], arities, strat.precedence, strat.unary_zero,
+                   strat.symbol_order, strat.symbol_weights)
     cpu = None
     if cpu_deadline is not None:
         cpu = max(0.0, cpu_deadline - time.process_time())

@@ -200,7 +200,8 @@ class KBO:
 
 
 def make_kbo(lit_lists, signature_arities: dict, mode: str = "arity",
-             unary_zero: bool = False) -> KBO:
+             unary_zero: bool = False, symbol_order: tuple = (),
+             symbol_weights: tuple = ()) -> KBO:
     """Choose weights and precedence by the documented heuristic.
 
     ``mode``:
@@ -213,6 +214,12 @@ def make_kbo(lit_lists, signature_arities: dict, mode: str = "arity",
     ``unary_zero``: give the most frequent unary function weight 0 and the
     top rank among functions (admissible), which orients ``f(g(x)) = g(f(x))``
     like laws and inverse laws the classical way.
+
+    Overrides (strategy options): ``symbol_order`` lists symbols from least to
+    greatest; they rank above every unlisted symbol of their kind (function
+    or predicate), in that order.  ``symbol_weights`` is a tuple of ``(symbol,
+    weight)`` with weights >= 1 (smaller ones are ignored: they could make
+    the ordering ill-founded).
     """
     counts = symbol_counts(lit_lists)
     order: dict = {}
@@ -248,8 +255,11 @@ def make_kbo(lit_lists, signature_arities: dict, mode: str = "arity",
 
     ranked = sorted(syms, key=key)
     rank = {f: i for i, f in enumerate(ranked)}
-    weights: dict = {}
-    if unary_zero:
+    for i, f in enumerate(symbol_order):
+        rank[f] = (2 * len(syms) if f in preds else len(syms)) + i + 1
+    user_weights = {f: w for f, w in symbol_weights if isinstance(w, int) and w >= 1}
+    weights: dict = dict(user_weights)
+    if unary_zero and not user_weights and not symbol_order:
         unary = [f for f in syms if ar.get(f) == 1 and f not in preds]
         if unary:
             u = max(unary, key=lambda f: (counts.get(f, 0), f))

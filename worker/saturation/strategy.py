@@ -20,6 +20,8 @@ class Strategy:
     precedence: str = "arity"    # arity | frequency | order  (see kbo.make_kbo)
     unary_zero: bool = False     # weight 0 for the most frequent unary function
     sos: bool = False            # set of support: axioms never infer among themselves
+    symbol_order: tuple = ()     # override: symbols from least to greatest (kbo.make_kbo)
+    symbol_weights: tuple = ()   # override: (symbol, weight >= 1) pairs
     indexing: str = "fingerprint"  # fingerprint | linear
 
     @property
