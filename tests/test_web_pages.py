@@ -545,6 +545,9 @@ def test_big_batch_pages_sorts_and_filters(env):
     # the sort links keep the filter
     page = env.get(f"/batches/{bid}?state=done")
     assert re.search(r'href="/batches/%s\?state=done&amp;sort=time' % bid, page)
+    # the counts in the summary filter the table
+    assert f'href="/batches/{bid}?verdict=Timeout"' in page
+    assert f'href="/batches/{bid}?state=queued"' in page
     # the charts: verdict bars and the time histogram
     assert "Jobs by verdict: Theorem 500, Timeout 250, queued 250" in page
     assert "Time of the 750 finished jobs" in page

@@ -28,6 +28,8 @@
     }
   }
 
+  var delay = 2000;
+
   function poll() {
     var url = document.body.getAttribute("data-live-url");
     if (!url) { return; }
@@ -35,15 +37,22 @@
       .then(function (r) { if (!r.ok) { throw new Error(r.status); } return r.json(); })
       .then(function (data) {
         if (data.sig !== document.body.getAttribute("data-live-sig")) {
+          var started = Date.now();
           return fetch(location.href, {credentials: "same-origin"})
             .then(function (r) { return r.text(); })
-            .then(function (html) { swapRegions(html); document.body.setAttribute("data-live-sig", data.sig); return data; });
+            .then(function (html) {
+              swapRegions(html);
+              document.body.setAttribute("data-live-sig", data.sig);
+              // a page that is slow to make (a huge batch) is fetched less often
+              delay = Math.min(30000, Math.max(2000, 5 * (Date.now() - started)));
+              return data;
+            });
         }
         return data;
       })
       .then(function (data) {
         if (data && data.finished) { document.body.removeAttribute("data-live-url"); return; }
-        setTimeout(poll, 2000);
+        setTimeout(poll, delay);
       })
       .catch(function () { setTimeout(poll, 5000); });
   }
