@@ -134,3 +134,25 @@ def test_a_clausifier_failure_is_one_line_not_a_traceback(monkeypatch, capsys):
     assert "ZeroDivisionError: boom" in err
     code, out, err = run(["clausify", ROBOTS], capsys)
     assert code == 1 and "internal error" in err
+
+
+def test_check_accepts_the_pelletier_set_in_both_languages(capsys):
+    """corpus/checks/pelletier (TPTP FOF, written from memory of Pelletier
+    1986 by the corpus maintainers) and its native translation."""
+    root = Path(__file__).parent.parent / "corpus" / "checks"
+    tptp = sorted(str(p) for p in (root / "pelletier").glob("*.p"))
+    native = sorted(str(p) for p in (root / "pelletier-native").glob("*.nj"))
+    if not tptp or not native:
+        pytest.skip("the Pelletier suite is not in this checkout")
+    code, out, err = run(["check", "--json", *tptp, *native], capsys)
+    d = json.loads(out)
+    bad = [f["error"]["text"] for f in d["files"] if not f["ok"]]
+    assert code == 0 and bad == []
+    by_name = {Path(f["file"]).stem + Path(f["file"]).suffix: f for f in d["files"]}
+    for p in tptp:
+        stem = Path(p).stem
+        if stem + ".nj" in by_name:
+            a, b = by_name[stem + ".p"], by_name[stem + ".nj"]
+            assert [s["name"] for s in a["statements"]] == [s["name"] for s in b["statements"]]
+            assert [o["clauses"] for o in a["obligations"]] == \
+                [o["clauses"] for o in b["obligations"]]
