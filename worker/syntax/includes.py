@@ -26,7 +26,6 @@ from .symbols import SymbolTable
 from .tptp import TptpParser
 
 TPTP_ENDINGS = (".p", ".ax", ".tptp", ".fof", ".cnf")
-NATIVE_ENDINGS = (".nj",)
 
 _SKIP = re.compile(r"(?:\s+|%[^\n]*|#[^\n]*|/\*.*?\*/)*", re.DOTALL)
 _TPTP_START = re.compile(r"(?:fof|cnf|tff|thf|tcf|tpi|tfx|include)\s*\(")
@@ -208,10 +207,7 @@ class Loader:
         if found in self.loaded:
             stmts = self.loaded[found]
         else:
-            try:
-                stmts = self.parse_file(found, text)
-            except LimitError:
-                raise
+            stmts = self.parse_file(found, text)
             self.loaded[found] = stmts
         if names is not None:
             have = {s.name: s for s in stmts}
