@@ -294,3 +294,13 @@ def test_non_utf8_file_points_at_the_bad_byte(tmp_path, capsys):
 def test_a_folder_is_not_a_file(tmp_path, capsys):
     code, out, err = run(["check", str(tmp_path)], capsys)
     assert code == 1 and "it is a folder" in err and f"{tmp_path}:1:1" in err
+
+
+@pytest.mark.parametrize("text,hint", [
+    ("axiom a: forall x, y. p(x, y)", "not commas: forall x y. FORMULA"),
+    ("axiom a: forall x y p(x)", "write forall x y. p..."),
+    ("axiom a: exists x x = x", "write exists x. x..."),
+])
+def test_quantifier_slips_get_a_hint(text, hint):
+    e = error_of(text)
+    assert "expected '.' after the variables" in e.message and hint in e.hint

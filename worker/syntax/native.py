@@ -407,6 +407,19 @@ class NativeParser:
                            f"{self.found()}", hint=f"write {kind} x y. FORMULA")
         if self.k[self.i] != ".":
             hint = f"write {kind} {' '.join(names)}. FORMULA"
+            if self.k[self.i] == ",":
+                more, j = list(names), self.i
+                while self.k[j] in (",", "name"):
+                    if self.k[j] == "name":
+                        more.append(self.t[j])
+                    j += 1
+                hint = (f"separate the variables with spaces, not commas: "
+                        f"{kind} {' '.join(more)}. FORMULA")
+            elif self.k[self.i] in ("(", "=", "!=") and len(names) > 1:
+                hint = (f"the '.' ends the variables: write {kind} "
+                        f"{' '.join(names[:-1])}. {names[-1]}...")
+            elif self.k[self.i] in ("(", "=", "!="):
+                hint = f"the '.' ends the variables: write {kind} VARIABLES. {names[0]}..."
             if self.t[self.i] in _RESERVED_NAMES:
                 raise self.err(f"'{self.t[self.i]}' is a reserved word and cannot "
                                f"name a variable", hint=hint)
