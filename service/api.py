@@ -127,6 +127,14 @@ def _number(body, key, default, lo=None, hi=None, what=""):
     return v
 
 
+def _strategies():
+    try:
+        from worker.saturation.strategy import STRATEGIES
+    except ImportError:
+        return None
+    return STRATEGIES
+
+
 def _reuse_key(bundle, conjecture, time_limit, settings) -> str:
     canon = json.dumps({"files": bundle["files"], "main": bundle["main"],
                         "language": bundle.get("language"), "conjecture": conjecture,
@@ -150,6 +158,11 @@ def submit():
     strategy = body.get("strategy")
     if strategy is not None and not isinstance(strategy, str):
         raise BadRequest("bad_request", "strategy must be a name")
+    if strategy is not None:
+        known = _strategies()
+        if known is not None and strategy not in known:
+            raise BadRequest("bad_request", f"unknown strategy {strategy!r}; known: "
+                             + ", ".join(sorted(known)))
     label = body.get("label")
     if label is not None and (not isinstance(label, str) or len(label) > 200):
         raise BadRequest("bad_request", "label must be a text of at most 200 characters")

@@ -37,7 +37,8 @@ def fake_decide(problem, conjecture, settings=None):
     model = None if proof else {"size": 1, "functions": {}, "predicates": {}}
     return {"conjecture": conjecture, "status": status, "seconds": 0.01,
             "strategy": "fake", "reason": "", "figures": {"given": 3,
-                                                          "time_limit": settings.limits.time},
+                                                          "time_limit": settings.limits.time,
+                                                          "asked": settings.strategy},
             "axioms_used": ["a1"] if proof else [], "proof": proof, "model": model,
             "certificate": {"kind": "proof-replayed" if proof else "model-evaluated",
                             "checked": 1, "detail": ""}}
@@ -119,7 +120,7 @@ def test_submit_one_file_makes_a_job_per_conjecture(env):
     pr = env.client.get(f"/api/jobs/{g['id']}/proof", headers=env.h).get_json()
     assert pr["proof"]["steps"][0]["rule"] == "input"
     fig = env.client.get(f"/api/jobs/{g['id']}/figures", headers=env.h).get_json()
-    assert fig["figures"] == {"given": 3, "time_limit": 3.0}
+    assert fig["figures"] == {"given": 3, "time_limit": 3.0, "asked": None}
     mo = env.client.get(f"/api/jobs/{h['id']}/model", headers=env.h).get_json()
     assert mo["model"]["size"] == 1 and mo["verdict"] == "CounterSatisfiable"
     src = env.client.get(f"/api/jobs/{g['id']}/problem", headers=env.h).get_json()
@@ -172,6 +173,8 @@ def test_limits(env):
     r = env.client.post("/api/submissions", data=json.dumps({"problem": one(big)}),
                         headers={**env.h, "Content-Type": "application/json"})
     assert r.status_code == 413 and r.get_json()["error"]["code"] == "too_large"
+    r = env.post({"problem": one(), "strategy": "no-such-strategy"})
+    assert r.status_code == 400 and "unknown strategy" in r.get_json()["error"]["message"]
     for body in ({}, {"problem": "x"}, {"problem": {"main": "a", "files": {"b": "c"}}},
                  {"problem": one(), "time_limit": "soon"}, [1, 2]):
         r = env.post(body)
@@ -283,3 +286,12 @@ def test_delete_a_settled_batch(env):
     assert env.r.keys("nj:job:*") == [] and env.r.keys("nj:result:*") == []
     assert env.r.keys("nj:reuse:*") == [] and env.r.keys("nj:batch:*") == []
     assert env.client.get("/api/batches", headers=env.h).get_json()["batches"] == []
+
+
+def test_a_named_strategy_reaches_the_engine(env):
+    from worker.saturation.strategy import STRATEGIES
+    name = sorted(STRATEGIES)[0]
+    body = env.post({"problem": one(), "strategy": name}).get_json()
+    env.run_all()
+    fig = env.client.get(f"/api/jobs/{body['jobs'][0]['id']}/figures", headers=env.h).get_json()
+    assert fig["figures"]["asked"] == name
