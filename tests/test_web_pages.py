@@ -9,7 +9,6 @@ from __future__ import annotations
 import html
 import io
 import re
-import textwrap
 import time
 
 import fakeredis

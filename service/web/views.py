@@ -21,7 +21,6 @@ import json
 import math
 import os
 import secrets
-import time
 from datetime import datetime, timezone
 from urllib.parse import urlencode
 
