@@ -204,3 +204,10 @@ def test_degenerate_junctions_print_readably():
     assert format_formula(And(())) == "true" and format_formula(Or(())) == "false"
     f = And((Or((Atom("p"), Atom("q"))),))
     assert parse_text("axiom a: " + format_formula(f)).statements[0].formula == f.args[0]
+
+
+def test_clause_printing_quotes_constants_spelled_like_its_variables():
+    from worker.syntax.printer import format_clause
+    lits = ((True, ("p", 0, "X0", "a")), (False, ("=", 1, "X1")), (False, "q"))
+    assert format_clause(lits) == "p(X0, 'X0', a) or X1 != 'X1' or not q"
+    assert format_clause(()) == "false"

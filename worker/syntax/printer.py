@@ -95,19 +95,36 @@ def format_atom(a, names: dict | None = None, _bound=None) -> str:
     return _format_pred(a, names, _bound)
 
 
-def format_literal(lit, names: dict | None = None) -> str:
+def format_literal(lit, names: dict | None = None, _bound=None) -> str:
     sign, a = lit
     if type(a) is tuple and a[0] == EQ and len(a) == 3:
         op = "=" if sign else "!="
-        return f"{format_term(a[1], names)} {op} {format_term(a[2], names)}"
-    s = _format_pred(a, names, None)
+        return (f"{format_term(a[1], names, 0, _bound)} {op} "
+                f"{format_term(a[2], names, 0, _bound)}")
+    s = _format_pred(a, names, _bound)
     return s if sign else f"not {s}"
 
 
 def format_clause(lits, names: dict | None = None) -> str:
+    """A clause, its variables as X0, X1, ... (or ``names``); a constant
+    spelled like one of them is quoted."""
     if not lits:
         return "false"
-    return " or ".join(format_literal(l, names) for l in lits)
+    vs = set()
+    for _, a in lits:
+        _vars(a, vs)
+    bound = {var_name(v, names) for v in vs}
+    return " or ".join(format_literal(l, names, bound) for l in lits)
+
+
+def _vars(t, acc):
+    stack = [t]
+    while stack:
+        x = stack.pop()
+        if type(x) is int:
+            acc.add(x)
+        elif type(x) is tuple:
+            stack.extend(x[1:])
 
 
 # Formula precedence: higher binds tighter.
