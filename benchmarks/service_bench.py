@@ -117,49 +117,60 @@ def in_process(problems, time_limit=30):
     return time.perf_counter() - t0, verdicts
 
 
+def overhead(b, args):
+    med = statistics.median
+    n = args.jobs
+    probs = trivial(n)
+    local = [in_process(probs)[0] for _ in range(args.repeat)]
+    b.set_workers(1)
+    b.run(trivial(5))                      # warm up
+    one = [b.run(probs)[0] for _ in range(args.repeat)]
+    noop = [b.rq_noop(n) for _ in range(args.repeat)]
+    b.set_workers(2)
+    two = [b.run(probs)[0] for _ in range(args.repeat)]
+    print(f"queue overhead, {n} trivial jobs (median of {args.repeat}):")
+    print(f"  in one process       {med(local):7.2f} s  {n / med(local):8.1f} jobs/s")
+    print(f"  service, 1 worker    {med(one):7.2f} s  {n / med(one):8.1f} jobs/s"
+          f"  ({(med(one) - med(local)) / n * 1000:.1f} ms added per job)")
+    print(f"  service, 2 workers   {med(two):7.2f} s  {n / med(two):8.1f} jobs/s")
+    print(f"  RQ alone, no-op jobs {med(noop):7.2f} s  {n / med(noop):8.1f} jobs/s"
+          f"  (1 worker: RQ's own cost per job {med(noop) / n * 1000:.1f} ms)")
+    print(f"  overhead ratio (service 1 worker / in process): {med(one) / med(local):.2f}")
+
+
+def scaling(b, args):
+    med = statistics.median
+    cpu = [bundle_of(str(ROOT / p), str(ROOT)) for p in CPU_PROBLEMS] * args.cpu_copies
+    local_cpu, verdicts = in_process(cpu)
+    assert all(v == "Theorem" for v in verdicts), verdicts
+    b.set_workers(1)
+    s1 = [b.run(cpu)[0] for _ in range(args.repeat)]
+    b.set_workers(2)
+    s2 = [b.run(cpu)[0] for _ in range(args.repeat)]
+    print(f"scaling, CPU-bound batch of {len(cpu)} proofs "
+          f"({local_cpu:.1f} s in one process; median of {args.repeat}):")
+    print(f"  1 worker   {med(s1):7.2f} s")
+    print(f"  2 workers  {med(s2):7.2f} s")
+    print(f"  speed-up (1 worker / 2 workers): {med(s1) / med(s2):.2f}  "
+          f"(cores: {os.cpu_count()}; load average now {os.getloadavg()[0]:.1f})")
+
+
 def main():
     ap = argparse.ArgumentParser()
     ap.add_argument("--jobs", type=int, default=500)
     ap.add_argument("--repeat", type=int, default=3)
     ap.add_argument("--cpu-copies", type=int, default=2,
                     help="copies of the CPU-bound problem set in the scaling batch")
+    ap.add_argument("--only", choices=("overhead", "scaling"), help="run one part")
     args = ap.parse_args()
-    med = statistics.median
     print(f"load average before: {os.getloadavg()[0]:.1f} on {os.cpu_count()} cores")
     with tempfile.TemporaryDirectory(prefix="nj-bench-") as tmp:
         b = Bench(Path(tmp))
         try:
-            probs = trivial(args.jobs)
-            local = [in_process(probs)[0] for _ in range(args.repeat)]
-            b.set_workers(1)
-            b.run(trivial(5))                      # warm up
-            one = [b.run(probs)[0] for _ in range(args.repeat)]
-            noop = [b.rq_noop(args.jobs) for _ in range(args.repeat)]
-            b.set_workers(2)
-            two = [b.run(probs)[0] for _ in range(args.repeat)]
-            n = args.jobs
-            print(f"queue overhead, {n} trivial jobs (median of {args.repeat}):")
-            print(f"  in one process       {med(local):7.2f} s  {n / med(local):8.1f} jobs/s")
-            print(f"  service, 1 worker    {med(one):7.2f} s  {n / med(one):8.1f} jobs/s"
-                  f"  ({(med(one) - med(local)) / n * 1000:.1f} ms added per job)")
-            print(f"  service, 2 workers   {med(two):7.2f} s  {n / med(two):8.1f} jobs/s")
-            print(f"  RQ alone, no-op jobs {med(noop):7.2f} s  {n / med(noop):8.1f} jobs/s"
-                  f"  (1 worker: RQ's own cost per job {med(noop) / n * 1000:.1f} ms)")
-            print(f"  overhead ratio (service 1 worker / in process): {med(one) / med(local):.2f}")
-
-            cpu = [bundle_of(str(ROOT / p), str(ROOT)) for p in CPU_PROBLEMS] * args.cpu_copies
-            local_cpu, verdicts = in_process(cpu)
-            assert all(v == "Theorem" for v in verdicts), verdicts
-            b.set_workers(1)
-            s1 = [b.run(cpu)[0] for _ in range(args.repeat)]
-            b.set_workers(2)
-            s2 = [b.run(cpu)[0] for _ in range(args.repeat)]
-            print(f"scaling, CPU-bound batch of {len(cpu)} proofs "
-                  f"({local_cpu:.1f} s in one process; median of {args.repeat}):")
-            print(f"  1 worker   {med(s1):7.2f} s")
-            print(f"  2 workers  {med(s2):7.2f} s")
-            print(f"  speed-up (1 worker / 2 workers): {med(s1) / med(s2):.2f}  "
-                  f"(cores: {os.cpu_count()})")
+            if args.only != "scaling":
+                overhead(b, args)
+            if args.only != "overhead":
+                scaling(b, args)
         finally:
             b.close()
 
