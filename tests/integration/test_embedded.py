@@ -137,3 +137,31 @@ def test_demo_starts_submits_waits_and_stops(tmp_path):
     assert "stopping the service it started" in r.stderr
     assert read_server(home) is None                 # stopped, nothing left behind
     assert (home / "redis" / "appendonly.aof").exists()
+
+
+def test_serve_with_a_given_redis_and_a_token_from_the_environment(redis_server, tmp_path):
+    home = tmp_path / "prod-home"
+    p = start_in_background(home, workers=1, redis_url=redis_server.url)
+    try:
+        info = read_server(home)
+        assert info["redis_url"] == redis_server.url and info["embedded_redis"] is False
+        assert not (home / "redis").exists()          # no bundled Redis was started
+        r = nightjar(home, "token", "add", "carol", "--redis", redis_server.url)
+        assert r.returncode == 0, r.stderr
+        tok = r.stdout.strip()
+        (tmp_path / "c.nj").write_text(THEOREM)
+        env = dict(os.environ, NIGHTJAR_TOKEN=tok, NIGHTJAR_HOME=str(tmp_path / "elsewhere"))
+        run = subprocess.run([sys.executable, "-m", "service.cli", "submit", "c.nj", "--wait",
+                              "--json", "--server", info["url"]], env=env, cwd=tmp_path,
+                             capture_output=True, text=True, timeout=90)
+        assert run.returncode == 0, run.stderr
+        line = json.loads(run.stdout.splitlines()[0])
+        assert line["status"] == "Theorem"
+        # the job is carol's: the home's own owner token does not see it
+        with pytest.raises(Exception):
+            Client(info["url"], read_token(home)).job(line["id"])
+        assert Client(info["url"], tok).job(line["id"])["owner"] == "carol"
+        r = nightjar(home, "token", "list", "--json", "--redis", redis_server.url)
+        assert {t["name"] for t in json.loads(r.stdout)} == {"carol", "local"}
+    finally:
+        stop_background(p)
