@@ -128,10 +128,10 @@ class _Alive:
 
 @given(st.lists(terms(), min_size=1, max_size=25), terms())
 @settings(max_examples=150, deadline=None)
-@pytest.mark.parametrize("positions", ["deep", "shallow"])
+@pytest.mark.parametrize("positions", ["default", "shallow", "deep"])
 def test_fingerprint_index_misses_nothing(positions, entries, q):
-    from worker.saturation.index import POSITIONS, SHALLOW
-    ix = FingerprintIndex(POSITIONS if positions == "deep" else SHALLOW)
+    from worker.saturation.index import DEEP, POSITIONS, SHALLOW
+    ix = FingerprintIndex({"default": POSITIONS, "shallow": SHALLOW, "deep": DEEP}[positions])
     holder = _Alive()
     for k, t in enumerate(entries):
         ix.insert(t, (holder, k))
@@ -153,6 +153,8 @@ def test_fingerprint_index_misses_nothing(positions, entries, q):
 @given(terms())
 @settings(max_examples=200, deadline=None)
 def test_unrolled_fingerprint_agrees(t):
-    from worker.saturation.index import SHALLOW, fingerprint, fingerprint4, fingerprint8
+    from worker.saturation.index import (DEEP, SHALLOW, fingerprint, fingerprint4,
+                                         fingerprint8, fingerprint_deep)
     assert fingerprint8(t) == fingerprint(t)
+    assert fingerprint_deep(t) == fingerprint(t, DEEP)
     assert fingerprint4(t) == fingerprint(t, SHALLOW)

@@ -27,6 +27,8 @@ VAR, BELOW, NONE = 1, 2, 3
 
 POSITIONS = ((), (1,), (2,), (3,), (1, 1), (1, 2), (2, 1), (2, 2))
 SHALLOW = ((), (1,), (2,), (3,))     # for small indexes (demodulators): a shorter walk
+# for atoms (the root is a predicate, so look one level deeper)
+DEEP = POSITIONS + ((1, 1, 1), (1, 1, 2), (1, 2, 1), (1, 2, 2))
 
 
 def fingerprint(t, positions=POSITIONS) -> tuple:
@@ -95,6 +97,36 @@ def _direct(q, mode):
     if mode == "unify":
         return (NONE, BELOW) if q == NONE else None
     return (NONE,) if q == NONE else None
+
+
+def fingerprint_deep(t) -> tuple:
+    """:func:`fingerprint` at the positions ``DEEP``."""
+    base = fingerprint8(t)
+    a = t[1] if type(t) is tuple else None
+    if type(a) is not tuple:
+        f = BELOW if (type(a) is int or type(t) is int) else NONE
+        return base + (f, f, f, f)
+    extra = []
+    for k in (1, 2):
+        if k < len(a):
+            b = a[k]
+            tb = type(b)
+            if tb is tuple:
+                for m in (1, 2):
+                    if m < len(b):
+                        x = b[m]
+                        tx = type(x)
+                        extra.append(VAR if tx is int else x if tx is str else x[0])
+                    else:
+                        extra.append(NONE)
+            else:
+                f = BELOW if tb is int else NONE
+                extra.append(f)
+                extra.append(f)
+        else:
+            extra.append(NONE)
+            extra.append(NONE)
+    return base + tuple(extra)
 
 
 def fingerprint4(t) -> tuple:
@@ -170,6 +202,8 @@ class FingerprintIndex:
             self._fp = fingerprint8
         elif positions is SHALLOW:
             self._fp = fingerprint4
+        elif positions is DEEP:
+            self._fp = fingerprint_deep
         else:
             self._fp = lambda t: fingerprint(t, positions)
 

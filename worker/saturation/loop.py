@@ -24,7 +24,7 @@ from worker.syntax.terms import EQ, apply, rename, subterms
 
 from . import rules as R
 from .clause import Clause, may_cut, may_subsume, normalize
-from .index import SHALLOW, FingerprintIndex, LinearIndex
+from .index import DEEP, SHALLOW, FingerprintIndex, LinearIndex
 from .kbo import KBO
 from .strategy import Strategy
 from .unify import match, unify, instantiate
@@ -88,8 +88,8 @@ class Saturation:
         self.sup_from = I()
         self.sup_into = I()
         self.demod = I(SHALLOW)
-        self.subkey = {True: I(), False: I()}
-        self.alllits = {True: I(), False: I()}
+        self.subkey = {True: I(DEEP), False: I(DEEP)}
+        self.alllits = {True: I(DEEP), False: I(DEEP)}
         self.allterms = I()
         self.units = {True: I(), False: I()}
         self._indexes = [self.res[True], self.res[False], self.sup_from,
