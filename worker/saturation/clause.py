@@ -16,7 +16,7 @@ from worker.syntax.terms import EQ
 class Clause:
     __slots__ = ("id", "lits", "nvars", "weight", "conj", "rule", "parents",
                  "info", "alive", "active", "sel", "elig", "maxl", "key",
-                 "source", "role", "feat", "sfeat")
+                 "source", "role", "feat", "sfeat", "raw")
 
     def __init__(self, cid: int, lits: tuple, nvars: int, rule: str,
                  parents: tuple = (), info: dict | None = None,
@@ -37,6 +37,26 @@ class Clause:
             feat[k] = feat.get(k, 0) + 1
         self.feat = feat       # feature vector: literal count per (sign, predicate)
         self.sfeat = None      # symbol occurrences per (sign, symbol), computed on demand
+        self.raw = False
+
+    @classmethod
+    def intermediate(cls, cid: int, lits: tuple, nvars: int, rule: str,
+                     parents: tuple, info: dict, conj: bool) -> "Clause":
+        """A clause in the middle of a chain of rewrites: its literals are not
+        renormalized (no duplicates, variables a subset of ``0..nvars-1``);
+        proof extraction renormalizes it and the step that uses it.  Only
+        ``id, lits, nvars, rule, parents, info, conj, raw`` are set."""
+        c = cls.__new__(cls)
+        c.id = cid
+        c.lits = lits
+        c.nvars = nvars
+        c.rule = rule
+        c.parents = parents
+        c.info = info
+        c.conj = conj
+        c.alive = False
+        c.raw = True
+        return c
         self.sel = ()          # selected literal indexes (set at activation)
         self.elig = ()         # literal indexes eligible for inferences
         self.maxl = ()         # maximal literal indexes
@@ -87,6 +107,37 @@ def normalize(lits, eq_builtin: bool = True) -> tuple[tuple, int]:
 
     res = tuple((s, walk(a)) for s, a in out)
     return res, len(mapping)
+
+
+def has_duplicates(lits, eq_builtin: bool = True) -> bool:
+    """Does the literal tuple repeat a literal (an equation's mirror counting
+    as the same when equality is built in)?"""
+    seen = set(lits)
+    if len(seen) != len(lits):
+        return True
+    if eq_builtin:
+        for sign, atom in lits:
+            if type(atom) is tuple and atom[0] == EQ and atom[1] != atom[2]:
+                if (sign, (EQ, atom[2], atom[1])) in seen:
+                    return True
+    return False
+
+
+def renaming(lits) -> dict:
+    """Variable map ``old -> 0..n-1`` in order of first occurrence."""
+    mapping: dict = {}
+    stack = []
+    for _s, a in lits:
+        stack.append(a)
+        while stack:
+            x = stack.pop()
+            tx = type(x)
+            if tx is int:
+                if x not in mapping:
+                    mapping[x] = len(mapping)
+            elif tx is tuple:
+                stack.extend(reversed(x[1:]))
+    return mapping
 
 
 def is_equation(atom) -> bool:

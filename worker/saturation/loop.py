@@ -23,7 +23,7 @@ import time
 from worker.syntax.terms import EQ, apply, rename, subterms
 
 from . import rules as R
-from .clause import Clause, may_cut, may_subsume, normalize
+from .clause import Clause, has_duplicates, may_cut, may_subsume, normalize
 from .index import DEEP, SHALLOW, FingerprintIndex, LinearIndex
 from .kbo import KBO
 from .strategy import Strategy
@@ -374,14 +374,26 @@ class Saturation:
         recorded step per rewritten position."""
         if not self.demod.size:
             return c
+        cur = c
         while True:
-            found = self._redex(c)
+            found = self._redex(cur)
             if found is None:
-                return c
+                break
             a, side, j, pos, m = found
-            lits, info = R.demodulation(a, side, c, j, pos, m)
-            c = self.new(lits, "demodulation", (a, c), info)
+            lits, info = R.demodulation(a, side, cur, j, pos, m)
             self.fig["demodulations"] += 1
+            lits = tuple(lits)
+            if has_duplicates(lits, self.eq):
+                cur = self.new(lits, "demodulation", (a, cur), info)
+            else:
+                # skip renormalizing the clauses in the middle of the chain
+                cur = Clause.intermediate(self.next_id, lits, cur.nvars, "demodulation",
+                                          (a, cur), info, a.conj or cur.conj)
+                self.next_id += 1
+        if cur.raw:
+            last = cur
+            cur = self.new(last.lits, "demodulation", last.parents, last.info, last.conj)
+        return cur
 
     def subsumed(self, c: Clause) -> bool:
         seen = set()

@@ -11,6 +11,9 @@ from __future__ import annotations
 from worker.syntax.printer import format_clause, format_term
 from worker.syntax.terms import clause_from_json, clause_to_json, from_json, to_json
 
+from .clause import renaming
+from .unify import instantiate
+
 _FIELDS = ("lits", "side", "sides", "position", "offsets")
 
 
@@ -25,13 +28,24 @@ def extract(empty, cp=None) -> dict:
         seen[c.id] = c
         stack.extend(c.parents)
     order = sorted(seen.values(), key=lambda c: c.id)
+    # clauses in the middle of a rewrite chain were kept unnormalized:
+    # rename their variables now, and the matcher of the step that uses them
+    vmaps = {c.id: renaming(c.lits) for c in order if getattr(c, "raw", False)}
     num = {c.id: k + 1 for k, c in enumerate(order)}
     steps = []
     axioms = []
     for c in order:
-        st = {"id": num[c.id], "clause": clause_to_json(c.lits), "rule": c.rule,
+        lits = c.lits
+        if c.id in vmaps:
+            vm = vmaps[c.id]
+            lits = tuple((sg, instantiate(a, vm)) for sg, a in lits)
+        st = {"id": num[c.id], "clause": clause_to_json(lits), "rule": c.rule,
               "parents": [num[p.id] for p in c.parents]}
         info = c.info or {}
+        if c.rule == "demodulation" and len(c.parents) == 2 and c.parents[1].id in vmaps:
+            vm = vmaps[c.parents[1].id]
+            info = dict(info, sigma={v: instantiate(t, vm)
+                                     for v, t in (info.get("sigma") or {}).items()})
         if c.rule == "input":
             st["formula"] = info.get("formula")
             st["role"] = info.get("role")
