@@ -167,4 +167,4 @@ def test_equality_two_ways_agree():
             if got["builtin"] in V.DEFINITE and got["axioms"] in V.DEFINITE:
                 both += 1
                 assert got["builtin"] == got["axioms"], (f, got)
-    assert both >= 6        # about 16 when the machine is idle
+    assert both >= 6        # 15 measured on a lightly loaded machine
