@@ -75,17 +75,24 @@ class Dispatcher:
             return False
 
 
-def sweep(store: Store, dispatcher: Dispatcher, config: Config) -> list[tuple[str, str]]:
+def sweep(store: Store, dispatcher: Dispatcher, config: Config,
+          suspects: set | None = None) -> list[tuple[str, str]]:
     """Settle running jobs whose attempt stopped saying it is alive (its
     worker was killed, its machine lost): retry once, then fail with the
-    reason.  Safe to run anywhere, any number of times at once: every change
+    reason.  With ``suspects`` (a set the caller keeps between calls) a job
+    is acted on only when its key was missing on the previous call too.
+    Safe to run anywhere, any number of times at once: every change
     is a guarded transition.  An attempt that ran past its time limit plus
     the grace period is settled as Timeout instead.  Returns
     [(job id, "retried" | "failed" | "timed out")]."""
     out = []
+    missing = set()
     for jid in store.running_jobs():
         if store.is_alive(jid):
             continue
+        missing.add(jid)
+        if suspects is not None and jid not in suspects:
+            continue          # act on the second sighting only (a beat may be late)
         rec = store.get_job_raw(jid)
         if rec is None or rec.get("state") != "running":
             store.r.srem(store.K_RUNNING, jid)
@@ -113,6 +120,9 @@ def sweep(store: Store, dispatcher: Dispatcher, config: Config) -> list[tuple[st
                       f"{attempts} times (last: {who}); not retried again")
             if store.fail(jid, reason, attempt=attempts):
                 out.append((jid, "failed"))
+    if suspects is not None:
+        suspects.clear()
+        suspects.update(missing - {j for j, _ in out})
     return out
 
 
@@ -158,9 +168,10 @@ class Sweeper(threading.Thread):
         r = connect(self.url)
         store, disp = Store(r), Dispatcher(r, self.config)
         last_stranded = 0.0
+        suspects: set = set()
         while not self.halt.wait(self.every):
             try:
-                for jid, what in sweep(store, disp, self.config):
+                for jid, what in sweep(store, disp, self.config, suspects):
                     log.warning("sweeper: job %s %s", jid, what)
                 if time.monotonic() - last_stranded > self.config.stranded_seconds / 3:
                     last_stranded = time.monotonic()
@@ -170,6 +181,23 @@ class Sweeper(threading.Thread):
                 log.info("sweeper: redis not answering (%s)", e)
             except Exception:  # never let the sweeper die
                 log.exception("sweeper")
+
+
+class NightjarWorker(Worker):
+    """RQ's forking worker; while a work horse runs, the worker itself also
+    renews the attempt's alive key every ``job_monitoring_interval`` seconds,
+    so an attempt stuck in a long native call (the horse's own heartbeat
+    thread then waits for the interpreter lock) is not taken for lost."""
+
+    alive_ttl = 12.0
+
+    def maintain_heartbeats(self, job, execution):
+        super().maintain_heartbeats(job, execution)
+        try:
+            if job.func_name == "worker.jobs.attempt" and job.args:
+                Store(self.connection).touch_alive(job.args[0], self.name, self.alive_ttl)
+        except Exception as e:      # a missed beat is not worth a crash
+            log.info("heartbeat: %s", e)
 
 
 _names = iter(range(1, 1 << 30))
@@ -249,9 +277,11 @@ def run_worker(url: str, config: Config, *, burst: bool = False,
             try:
                 r.ping()
                 wait = 1.0               # Redis answers: back to a short pause
-                w = Worker([Queue(n, connection=r) for n in QUEUES], connection=r,
-                           name=worker_name(),
-                           work_horse_killed_handler=_horse_killed_handler())
+                w = NightjarWorker([Queue(n, connection=r) for n in QUEUES], connection=r,
+                                   name=worker_name(),
+                                   work_horse_killed_handler=_horse_killed_handler(),
+                                   job_monitoring_interval=max(1, int(config.heartbeat_seconds)))
+                w.alive_ttl = config.alive_ttl
                 w.work(burst=burst, logging_level=log_level, with_scheduler=False)
                 if burst or getattr(w, "_stop_requested", False):
                     return 0

@@ -168,3 +168,19 @@ def test_sweeper_settles_an_attempt_past_its_hard_stop_as_timeout(st):
     assert (j["state"], j["verdict"], j["attempts"]) == ("done", "Timeout", 1)
     assert "hard stop" in j["reason"]
     assert store.get_batch(bid)["verdicts"] == {"Timeout": 1}
+
+
+def test_sweeper_with_suspects_acts_on_the_second_sighting(st):
+    store, disp = st
+    _, (a, b) = make(st)
+    store.start_attempt(a, "w1", 10)
+    store.start_attempt(b, "w2", 10)
+    store.r.delete(store.k_alive(a))
+    seen: set = set()
+    assert sweep(store, disp, CFG, seen) == [] and seen == {a}
+    store.touch_alive(a, "w1", 10)            # a late beat: not lost after all
+    assert sweep(store, disp, CFG, seen) == [] and seen == set()
+    store.r.delete(store.k_alive(a))
+    sweep(store, disp, CFG, seen)
+    assert sweep(store, disp, CFG, seen) == [(a, "retried")]
+    assert store.get_job(b)["state"] == "running"

@@ -228,3 +228,46 @@ def test_memory_cap_gives_memoryout_and_the_worker_lives_on(api, redis_server, t
         from service.embedded import stop_processes
         stop_processes([p], timeout=5)
         log.close()
+
+
+BUSY_WORKER = """\
+import re
+import sys
+import worker.pipeline as pipeline
+real = pipeline.decide
+
+def decide(problem, conjecture, settings=None):
+    # a long native call that keeps the interpreter lock (the horse's own
+    # heartbeat thread cannot run meanwhile): exponential backtracking
+    re.match(r"(a+)+$", "a" * 27 + "b")
+    return real(problem, conjecture, settings)
+
+pipeline.decide = decide
+from service.config import Config
+from service.queue import run_worker
+sys.exit(run_worker(sys.argv[1], Config.from_env()))
+"""
+
+
+def test_a_long_native_call_is_not_taken_for_a_lost_worker(api, redis_server, tmp_path):
+    """The worker renews the alive key while its horse runs, so an attempt
+    whose own heartbeat thread is starved keeps its job (no retry)."""
+    import os
+    import subprocess
+    import sys
+    script = tmp_path / "busy_worker.py"
+    script.write_text(BUSY_WORKER)
+    log = open(tmp_path / "busy.log", "wb")
+    p = subprocess.Popen([sys.executable, str(script), redis_server.url], env=dict(os.environ),
+                         stdout=log, stderr=log, start_new_session=True)
+    try:
+        c = owner(api)
+        sub = c.submit({"problem": mixed_problems(1)[0][0], "time_limit": 120})
+        c.wait(sub["batch"], timeout=150)
+        j = c.job(sub["jobs"][0]["id"])
+        assert j["verdict"] == "Theorem" and j["attempts"] == 1 and j["lost"] is None
+        assert j["finished"] - j["started"] > 2 * api.config.alive_ttl   # it was starved long
+    finally:
+        from service.embedded import stop_processes
+        stop_processes([p], timeout=5)
+        log.close()
