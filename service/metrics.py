@@ -13,8 +13,9 @@ format (version 0.0.4, an open standard).
 The per-state, per-verdict and seconds figures come from one pass over the
 job records (``SCAN nj:job:*`` with pipelined ``HMGET``), cached for
 ``NIGHTJAR_METRICS_CACHE_SECONDS`` (default 10) so that many scrapers cost
-one pass.  The pass costs about 5 ms per 1,000 jobs (benchmarks/load_bench.py
-prints the figure); past a few million kept jobs, scrape less often.
+one pass.  The pass grows with the number of kept jobs: 0.8 s with 10,000
+on the CI machine while two workers ran (benchmarks/load_bench.py prints the
+figure); with many more, scrape less often or raise the cache time.
 
 Like every endpoint but health it needs a token (Prometheus:
 ``authorization: {credentials: <token>}`` in the scrape config).
