@@ -148,9 +148,24 @@ def _reuse_key(bundle, conjecture, time_limit, settings) -> str:
 def submit():
     from worker.syntax.errors import InputError
 
-    s = svc()
-    cfg = s.config
     body = request.get_json(silent=True)
+    try:
+        out = accept_submission(svc(), g.owner, body)
+    except InputError as e:
+        return jsonify({"error": {"code": "input_error", **e.to_json()}}), 400
+    resp = jsonify(out)
+    resp.status_code = 202
+    resp.headers["Location"] = f"/api/batches/{out['batch']}"
+    return resp
+
+
+def accept_submission(s, owner: str, body) -> dict:
+    """Check, store and queue one submission (the body of POST
+    /api/submissions) for ``owner``; returns the 202 answer's JSON.  Raises
+    :class:`BadRequest` or the reader's ``InputError``; on either, nothing is
+    stored.  ``s`` is ``app.extensions["nightjar"]`` (the web console calls
+    this too)."""
+    cfg = s.config
     if not isinstance(body, dict):
         raise BadRequest("bad_request", "the body must be a JSON object")
     time_limit = float(_number(body, "time_limit", cfg.default_time_limit, lo=0.01,
@@ -209,10 +224,7 @@ def submit():
     # ... read and clausify every one before anything is stored ...
     jobs = []
     for b in bundles:
-        try:
-            obligations = check_problem(b)
-        except InputError as e:
-            return jsonify({"error": {"code": "input_error", **e.to_json()}}), 400
+        obligations = check_problem(b)
         for c in obligations:
             jobs.append({"file": b["main"], "conjecture": c, "bundle": b,
                          "time_limit": time_limit,
@@ -225,21 +237,17 @@ def submit():
     reused = {}
     if reuse:
         for i, j in enumerate(jobs):
-            src = s.store.find_reusable(g.owner, j["reuse_key"])
+            src = s.store.find_reusable(owner, j["reuse_key"])
             if src is not None:
                 reused[i] = src
     # ... then store and queue in one transaction.
-    bid, ids = s.store.create_batch(g.owner, jobs, label=label, queue_name=queue_name,
+    bid, ids = s.store.create_batch(owner, jobs, label=label, queue_name=queue_name,
                                     settings=settings, enqueue=s.dispatcher.enqueue,
                                     reused=reused)
-    out = {"batch": bid, "jobs": [
+    return {"batch": bid, "jobs": [
         {"id": jid, "file": j["file"], "conjecture": j["conjecture"],
          "state": "done" if i in reused else "queued",
          "reused": i in reused} for i, (jid, j) in enumerate(zip(ids, jobs))]}
-    resp = jsonify(out)
-    resp.status_code = 202
-    resp.headers["Location"] = f"/api/batches/{bid}"
-    return resp
 
 
 # -- reading records -------------------------------------------------------
@@ -431,4 +439,4 @@ def health():
                     "queued": queues, "running": running})
 
 
-__all__ = ["bp", "check_problem", "FINAL_STATES"]
+__all__ = ["bp", "accept_submission", "check_problem", "BadRequest", "FINAL_STATES"]
