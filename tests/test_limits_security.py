@@ -18,7 +18,7 @@ SMALL = {"main": "t.nj", "files": {"t.nj": "axiom a: p\nconjecture g: p\n"}}
 
 @pytest.fixture
 def env(monkeypatch):
-    monkeypatch.setenv("NIGHTJAR_RATE_PER_SECOND", "5")
+    monkeypatch.setenv("NIGHTJAR_RATE_PER_SECOND", "0.5")
     monkeypatch.setenv("NIGHTJAR_RATE_BURST", "10")
     r = fakeredis.FakeRedis()
     app = create_app(Config(max_upload_bytes=200_000, max_jobs_per_batch=20,
