@@ -84,6 +84,11 @@ class Saturation:
         self.memory_mb = memory_mb
         self.max_clauses = max_clauses
         I = LinearIndex if strategy.indexing == "linear" else FingerprintIndex
+        if strategy.indexing == "linear":
+            # the naive mode: no feature-vector filters in front of subsumption either
+            self.may_subsume = self.may_cut = lambda c, d: True
+        else:
+            self.may_subsume, self.may_cut = may_subsume, may_cut
         self.res = {True: I(), False: I()}
         self.sup_from = I()
         self.sup_into = I()
@@ -404,7 +409,7 @@ class Saturation:
                 if d.id in seen or len(d.lits) > n:
                     continue
                 seen.add(d.id)
-                if may_subsume(d, c) and R.subsumes(d.lits, c.lits, self.eq,
+                if self.may_subsume(d, c) and R.subsumes(d.lits, c.lits, self.eq,
                                                     d.key or 0) is not None:
                     return True
         return False
@@ -420,7 +425,7 @@ class Saturation:
                     if d.id in seen or len(d.lits) > n or len(d.lits) > self.cut_max:
                         continue
                     seen.add(d.id)
-                    if not may_cut(d, c):
+                    if not self.may_cut(d, c):
                         continue
                     found = R.find_subsumption_resolution(d.lits, c.lits, self.eq)
                     if found is not None:
@@ -489,7 +494,7 @@ class Saturation:
             self.check()
             if d is g or not d.alive or not d.active or len(d.lits) < len(lits):
                 continue
-            if may_subsume(g, d) and R.subsumes(lits, d.lits, self.eq, g.key or 0) is not None:
+            if self.may_subsume(g, d) and R.subsumes(lits, d.lits, self.eq, g.key or 0) is not None:
                 self.kill(d)
                 self.fig["backward_deleted"] += 1
 
