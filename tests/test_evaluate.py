@@ -162,6 +162,30 @@ def test_deep_quantifiers_at_size_8():
     assert not check_model(model, _problem(("no", "axiom", g)), None).ok
 
 
+def test_quantified_variables_that_do_not_occur_are_not_looped_over():
+    """forall x0 ... x59. q(x0) (59 of the variables occur nowhere) in a
+    model of 2 elements: looping over every variable would be 2**60 steps,
+    so this only finishes because the evaluator skips them; the values must
+    still be right (q holds at 0 only), for forall and exists, nested and in
+    one binder, and in the message for a false statement."""
+    q = lambda t: Atom(("q", t))
+    model = {"size": 2, "functions": {},
+             "predicates": {"q": {"arity": 1, "values": [[[0], True], [[1], False]]}}}
+    nested = q(0)
+    for v in reversed(range(60)):
+        nested = Quant("forall", (v,), nested)
+    rep = check_model(model, _problem(("n", "axiom", nested)), None)
+    assert not rep.ok and rep.failing_step == 0
+    assert "(for X0 = 1)" in rep.detail, rep.detail
+    some = Quant("exists", tuple(range(60)), q(0))
+    assert check_model(model, _problem(("e", "axiom", some)), None).ok
+    holds_ = Quant("forall", tuple(range(60)), Or((q(0), Not(q(0)))))
+    assert check_model(model, _problem(("t", "axiom", holds_)), None).ok
+    # x0 occurs under an inner binder only after the vacuous ones
+    inner = Quant("forall", tuple(range(1, 60)), Quant("exists", (0,), Not(q(0))))
+    assert check_model(model, _problem(("i", "axiom", inner)), None).ok
+
+
 def test_unknown_conjecture_name_is_refused():
     model = z2_model()
     prob = _problem(("a", "axiom", Atom(("=", "e", "e"))))

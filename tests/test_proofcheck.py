@@ -636,6 +636,44 @@ def test_small_model_evaluation():
     assert not clause_holds(((True, ("r", 0, 1)),), interp, 2)
 
 
+def test_spot_check_gives_up_on_many_nested_quantifiers_instead_of_hanging():
+    """forall x0 ... x39. r(x0, x1) or ... or r(x38, x39) on two elements
+    would take up to 2**40 steps per interpretation: the spot check skips the
+    size (budget MAX_STEPS) rather than run for ever, and the proof of a
+    conjecture from a statement with 40 nested binders is still replayed and
+    accepted."""
+    from worker.certify import spotcheck
+    body = Or(tuple(A("r", i, i + 1) for i in range(39)))
+    f = body
+    for v in reversed(range(40)):
+        f = Quant("forall", (v,), f)
+    with pytest.raises(spotcheck._Skip):
+        spotcheck.models(f, {"r": ("predicate", 2)}, 2)
+    checker = spotcheck.SpotChecker()
+    assert checker.counterexample("s", f, {"r": ("predicate", 2)},
+                                  ((True, ("r", 0, 1)),), 2) is None
+    assert not checker.tried("s", 2)
+    # forall x0 ... x39. p(x0) (39 binders vacuous), conjecture p(b): the
+    # refutation p(X0), not p(b), false (written here, not by the engine)
+    g = A("p", 0)
+    for v in reversed(range(40)):
+        g = Quant("forall", (v,), g)
+    pr = problem([("a", "axiom", g), ("c", "conjecture", A("p", "b"))],
+                 preds=["p/1"], funcs=["b/0"])
+    cp = cnf("c", [("a", "axiom", False, [pos(P0)]),
+                   ("c", "conjecture", True, [neg(["p", "b"])])])
+    pf = proof([inp(1, "a", [pos(P0)]),
+                inp(2, "c", [neg(["p", "b"])], conj=True),
+                step(3, "resolution", [2, 1], [], lits=[0, 0], offsets=[0, 0],
+                     subst={"0": "b"})],
+               "c", ["a"])
+    rep = check_proof(pf, pr, cp)
+    assert rep.ok, rep.detail
+    bad = copy.deepcopy(pf)
+    bad["steps"][2]["subst"] = {"0": "z"}
+    assert not check_proof(bad, pr, cp).ok
+
+
 def test_every_clause_of_the_corpus_passes_the_input_checks():
     """Every clause the clausifier produces for our suites (corpus/checks,
     each file's source in its header) passes the input-step checks,

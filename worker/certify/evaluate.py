@@ -170,8 +170,14 @@ class _Compiler:
         if isinstance(f, Quant):
             body = self.formula(f.body)
             dom = range(self.n)
+            # A variable that does not occur in the body is not looped over:
+            # on a non-empty domain ``forall x. B`` and ``exists x. B`` are B
+            # when x is not free in B.  Without this ``forall x1 ... x40.
+            # p(x1)`` would take 2**40 steps in a model of two elements.
+            used = set(_free_and_max(f.body)[0])
             for v in reversed(f.vars):
-                body = self._quant(f.kind, v, body, dom)
+                if v in used:
+                    body = self._quant(f.kind, v, body, dom)
             return body
         raise ModelError(f"unknown formula node {type(f).__name__}")
 
@@ -238,11 +244,20 @@ def _prepare(formula):
     return formula, top + 1
 
 
+# Assignments tried at most when looking for the values that falsify a
+# statement (only for the message; the verdict does not depend on it).
+MAX_COUNTEREXAMPLE_TRIES = 100_000
+
+
 def _counterexample(formula, comp, n, varnames):
-    """For a failing ``forall x... body``, the first values that falsify it."""
+    """For a failing ``forall x... body``, the first values that falsify it
+    ("" when there are too many assignments to try)."""
     if not (isinstance(formula, Quant) and formula.kind == "forall"):
         return ""
-    vs = formula.vars
+    used = set(_free_and_max(formula.body)[0])
+    vs = [v for v in formula.vars if v in used]
+    if not vs or n ** len(vs) > MAX_COUNTEREXAMPLE_TRIES:
+        return ""
     body = comp.formula(formula.body)
     _, top = _free_and_max(formula)
     env = [0] * (top + 1)

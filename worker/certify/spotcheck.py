@@ -35,6 +35,12 @@ from ..syntax.terms import EQ
 # skipped (the check is a spot check, not a decision procedure).
 MAX_INTERPRETATIONS = {1: 1024, 2: 64}
 
+# Quantifier steps (one value tried for one bound variable) spent on one
+# statement and size at most; beyond that the size is skipped too.  Without
+# it a statement with many nested quantifiers (``forall x1 ... x40. p(x1)``)
+# costs 2**40 steps on two elements: the check would never end.
+MAX_STEPS = 200_000
+
 
 class _Skip(Exception):
     pass
@@ -57,21 +63,24 @@ def _eval_atom(a, interp, env) -> bool:
     return interp[a[0]][tuple(_eval_term(x, interp, env) for x in a[1:])]
 
 
-def holds(f, interp, env, size) -> bool:
+def holds(f, interp, env, size, budget=None) -> bool:
     """Truth of formula ``f`` in the interpretation (symbol -> table from
-    argument tuples to a value) under the variable assignment ``env``."""
+    argument tuples to a value) under the variable assignment ``env``.
+    ``budget`` (a one-element list, or None for no bound) counts down the
+    quantifier steps; _Skip is raised when it runs out."""
     if isinstance(f, Atom):
         return _eval_atom(f.term, interp, env)
     if isinstance(f, Not):
-        return not holds(f.arg, interp, env, size)
+        return not holds(f.arg, interp, env, size, budget)
     if isinstance(f, And):
-        return all(holds(x, interp, env, size) for x in f.args)
+        return all(holds(x, interp, env, size, budget) for x in f.args)
     if isinstance(f, Or):
-        return any(holds(x, interp, env, size) for x in f.args)
+        return any(holds(x, interp, env, size, budget) for x in f.args)
     if isinstance(f, Implies):
-        return (not holds(f.left, interp, env, size)) or holds(f.right, interp, env, size)
+        return ((not holds(f.left, interp, env, size, budget))
+                or holds(f.right, interp, env, size, budget))
     if isinstance(f, Iff):
-        return holds(f.left, interp, env, size) == holds(f.right, interp, env, size)
+        return holds(f.left, interp, env, size, budget) == holds(f.right, interp, env, size, budget)
     if isinstance(f, Const):
         return f.value
     if isinstance(f, Quant):
@@ -79,8 +88,12 @@ def holds(f, interp, env, size) -> bool:
         saved = {v: env[v] for v in f.vars if v in env}
         try:
             for values in itertools.product(range(size), repeat=len(f.vars)):
+                if budget is not None:
+                    budget[0] -= 1
+                    if budget[0] < 0:
+                        raise _Skip()
                 env.update(zip(f.vars, values))
-                if holds(f.body, interp, env, size) != want:
+                if holds(f.body, interp, env, size, budget) != want:
                     return not want
             return want
         finally:
@@ -125,7 +138,8 @@ def _tables(arity: int, size: int, values):
 def models(formula, symbols: dict, size: int):
     """Every interpretation of ``symbols`` (name -> (kind, arity)) on a
     domain of ``size`` elements in which the closed ``formula`` holds; raises
-    _Skip when there are more than MAX_INTERPRETATIONS[size] to try."""
+    _Skip when there are more than MAX_INTERPRETATIONS[size] to try, or when
+    evaluating them takes more than MAX_STEPS quantifier steps."""
     free = _free_vars(formula)
     if free:
         formula = Quant("forall", tuple(sorted(free)), formula)
@@ -143,9 +157,10 @@ def models(formula, symbols: dict, size: int):
         values = (False, True) if kind == "predicate" else tuple(range(size))
         choices.append(list(_tables(arity, size, values)))
     out = []
+    budget = [MAX_STEPS]
     for combo in itertools.product(*choices):
         interp = dict(zip(names, combo))
-        if holds(formula, interp, {}, size):
+        if holds(formula, interp, {}, size, budget):
             out.append(interp)
     return out
 
@@ -208,6 +223,8 @@ class SpotChecker:
         if ms is None:
             return None
         vs = _clause_vars(lits)
+        if len(ms) * size ** len(vs) > MAX_STEPS:
+            return None                 # too many instances to evaluate: skipped
         for interp in ms:
             if not clause_holds(lits, interp, size, vs):
                 return describe(interp, size)
