@@ -503,14 +503,17 @@ def test_canonical_form_is_invariant_and_separating():
 @needs_front
 def test_tiny_slices_reach_the_same_answer():
     # the portfolio's way: many short run() calls; grounding and solving are
-    # interrupted and resumed, the outcome is the same as one long call
+    # interrupted and resumed, the outcome is the same as one long call.
+    # (How many calls it takes depends on the machine's speed; only that it
+    # was interrupted at least once is asserted.  Resuming inside the
+    # grounding is tested exactly in test_deadline_during_grounding_and_resume.)
     p, cp = group_problem()
     s = ModelSearch(cp, max_size=8)
     calls, model = 0, None
     while model is None and not s.done and calls < 20_000:
-        model = s.run(time.monotonic() + 0.003)
+        model = s.run(time.monotonic() + 0.001)
         calls += 1
-    assert calls > 5
+    assert calls > 1
     assert model is not None and model["size"] == 6 and s.sizes_excluded == [1, 2, 3, 4, 5]
     assert check_model(model, p, "comm").ok
 
@@ -602,3 +605,30 @@ def test_models_of_random_problems_pass_the_evaluator():
             rep = check_model(m, p, conj)
             assert rep.ok, (text, rep.detail)
     assert found > 40
+
+
+def test_clauses_of_one_shape_share_their_grounding_code():
+    """Grounding code is generated per clause shape, not per clause: 300
+    unit clauses p_i(a) and p_i(b) compile one function between them, and
+    the model still gets every atom right (each p_i true at a and b, q false
+    at a, so a != b is forced)."""
+    from worker.models.encode import Encoding
+    n = 300
+    clauses = [[(True, (f"p{i}", c))] for i in range(n) for c in ("a", "b")]
+    clauses.append([(False, ("q", "a"))])
+    clauses.append([(True, ("q", "b"))])
+    sig = [(f"p{i}", "predicate", 1) for i in range(n)]
+    sig += [("q", "predicate", 1), ("a", "function", 0), ("b", "function", 0)]
+    cp = _cp(clauses, sig)
+    m = find_model(cp, max_size=3)
+    assert m["size"] == 2
+    a, b = table(m, "a")[()], table(m, "b")[()]
+    assert a != b
+    for i in range(n):
+        p = dict((tuple(k), v) for k, v in m["predicates"][f"p{i}"]["values"])
+        assert p[(a,)] is True and p[(b,)] is True
+    flat = [flatten_clause(tuple(c)) for c in clauses]
+    enc = Encoding(flat, {"a": 0, "b": 0}, {f"p{i}": 1 for i in range(n)} | {"q": 1}, 3)
+    codes = {g.__code__ for g in enc.grounders()}
+    assert len(enc.grounders()) == len(flat)
+    assert len(codes) < 5, len(codes)      # the shapes: p(x) with x = a, ...

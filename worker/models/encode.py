@@ -54,12 +54,20 @@ def _lit_terms(lit, N, bases):
 
 
 def compile_grounder(fc, N, bases):
-    """Python source of a function that adds the new ground instances of one
+    """``(source, constants)``: the Python source of a factory
+    ``make(K0, K1, ...)`` and the literal base numbers to call it with.  The
+    factory returns a function that adds the new ground instances of one
     flat clause at size ``n`` (those where some variable is ``n-1``), from
-    the values ``start = (x0, x1)`` of the two outermost variables on.
-    Returns the pair to resume from when ``past_deadline()`` says so (asked
-    once per value of the second variable), else None."""
+    the values ``start = (x0, x1)`` of the two outermost variables on; it
+    returns the pair to resume from when ``past_deadline()`` says so (asked
+    once per value of the second variable), else None.
+
+    The source depends only on the clause's shape (its variables, signs,
+    arities and equations), not on which symbols it uses, so clauses of one
+    shape share one compiled code object (:meth:`Encoding.grounders`): a
+    problem of 100,000 unit clauses compiles one function, not 100,000."""
     k = fc.nvars
+    consts = []         # the base numbers, passed to the factory as K0, K1, ...
     lits = []           # (level, expr) for SAT literals
     eqs = {}            # level -> list of (a, b) positive var equations
     for lit in fc.lits:
@@ -68,21 +76,26 @@ def compile_grounder(fc, N, bases):
             eqs.setdefault(max(a, b), []).append((a, b))
             continue
         sign, const, coeffs = _lit_terms(lit, N, bases)
-        parts = [str(const)] + [f"{c}*x{v}" if c != 1 else f"x{v}"
+        parts = [f"K{len(consts)}"] + [f"{c}*x{v}" if c != 1 else f"x{v}"
                                 for v, c in sorted(coeffs.items())]
         expr = " + ".join(parts)
         if not sign:
             expr = f"-({expr})"
+        consts.append(const)
         level = max(coeffs) if coeffs else -1
         lits.append((level, expr))
+    params = ", ".join(f"K{i}" for i in range(len(consts)))
+    defaults = "".join(f", K{i}=K{i}" for i in range(len(consts)))
     L = []
-    L.append("def ground(n, add, past_deadline, start):")
+    L.append(f"def make({params}):")
+    L.append(f"  def ground(n, add, past_deadline, start{defaults}):")
     if k == 0:
         L.append("    if n != 1:\n        return None")
         body = ", ".join(e for _l, e in lits)
         L.append(f"    add([{body}])")
         L.append("    return None")
-        return "\n".join(L)
+        L.append("  return ground")
+        return "\n".join(L), consts
     L.append("    R = range(n); top = n - 1; T = (top,)")
     for i, (level, expr) in enumerate(lits):
         if level == -1:
@@ -119,7 +132,8 @@ def compile_grounder(fc, N, bases):
     body = ", ".join(f"l{i}" for i in range(len(lits)))
     L.append(f"{ind}add([{body}])")
     L.append("    return None")
-    return "\n".join(L)
+    L.append("  return ground")
+    return "\n".join(L), consts
 
 
 def new_instances(fc, n):
@@ -198,11 +212,15 @@ class Encoding:
     def grounders(self):
         if self._grounders is None:
             gs = []
+            factories = {}          # source -> make(K0, ...): one compile per shape
             for fc in self.flat:
-                src = compile_grounder(fc, self.N, self.bases)
-                ns = {}
-                exec(compile(src, "<ground>", "exec"), ns)
-                gs.append(ns["ground"])
+                src, consts = compile_grounder(fc, self.N, self.bases)
+                make = factories.get(src)
+                if make is None:
+                    ns = {}
+                    exec(compile(src, "<ground>", "exec"), ns)
+                    make = factories[src] = ns["make"]
+                gs.append(make(*consts))
             self._grounders = gs
         return self._grounders
 
