@@ -616,3 +616,18 @@ def test_clauses_of_one_shape_share_their_grounding_code():
     codes = {g.__code__ for g in enc.grounders()}
     assert len(enc.grounders()) == len(flat)
     assert len(codes) < 5, len(codes)      # the shapes: p(x) with x = a, ...
+
+
+def test_deadline_is_kept_among_many_clauses_without_two_variables():
+    """Clauses of fewer than two variables never ask the clock inside their
+    grounding code; the search asks it between clauses, so a slice that has
+    already ended stops early and the next call goes on from there."""
+    n = 5000
+    clauses = [[(True, (f"p{i}", "a"))] for i in range(n)]
+    sig = [(f"p{i}", "predicate", 1) for i in range(n)] + [("a", "function", 0)]
+    s = ModelSearch(_cp(clauses, sig), max_size=2)
+    assert s.run(time.monotonic() - 1.0) is None          # the slice is over already
+    assert "grounding" in s.reason and 0 < s._clause_at < n
+    m = s.run()
+    assert m is not None and m["size"] == 1
+    assert all(m["predicates"][f"p{i}"]["values"] == [[[0], True]] for i in range(n))

@@ -209,20 +209,27 @@ class Encoding:
         return out
 
     # ------------------------------------------------------------ grounding
-    def grounders(self):
+    def grounder(self, i):
+        """The grounding function of flat clause ``i``, made on first use
+        (so that a search with a short slice does not first compile every
+        clause of a huge problem)."""
         if self._grounders is None:
-            gs = []
-            factories = {}          # source -> make(K0, ...): one compile per shape
-            for fc in self.flat:
-                src, consts = compile_grounder(fc, self.N, self.bases)
-                make = factories.get(src)
-                if make is None:
-                    ns = {}
-                    exec(compile(src, "<ground>", "exec"), ns)
-                    make = factories[src] = ns["make"]
-                gs.append(make(*consts))
-            self._grounders = gs
-        return self._grounders
+            self._grounders = [None] * len(self.flat)
+            self._factories = {}    # source -> make(K0, ...): one compile per shape
+        g = self._grounders[i]
+        if g is None:
+            src, consts = compile_grounder(self.flat[i], self.N, self.bases)
+            make = self._factories.get(src)
+            if make is None:
+                ns = {}
+                exec(compile(src, "<ground>", "exec"), ns)
+                make = self._factories[src] = ns["make"]
+            g = self._grounders[i] = make(*consts)
+        return g
+
+    def grounders(self):
+        """Every clause's grounding function, in clause order."""
+        return [self.grounder(i) for i in range(len(self.flat))]
 
     def estimate(self, n) -> int:
         """Clauses added when the domain grows to n (an upper bound)."""

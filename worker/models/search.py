@@ -257,7 +257,6 @@ class ModelSearch:
                 return True
             sat.add_all(enc.size_clauses(n))
             self._size_clauses_added = True
-        grounders = enc.grounders()
         clock = time.monotonic
         buf = []
 
@@ -267,8 +266,15 @@ class ModelSearch:
                 buf.clear()
             return clock() > deadline
 
-        while self._clause_at < len(grounders):
-            resume = grounders[self._clause_at](n, buf.append, past_deadline, self._start)
+        total = len(enc.flat)
+        while self._clause_at < total:
+            # clauses of fewer than two variables never ask past_deadline():
+            # the clock is read here every 256 clauses as well
+            if self._clause_at % 256 == 255 and clock() > deadline:
+                self.reason = f"size {n}: time slice ended while grounding"
+                return False
+            ground = enc.grounder(self._clause_at)
+            resume = ground(n, buf.append, past_deadline, self._start)
             sat.add_all(buf)
             buf.clear()
             if resume is not None:
