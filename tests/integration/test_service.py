@@ -231,15 +231,33 @@ def test_memory_cap_gives_memoryout_and_the_worker_lives_on(api, redis_server, t
 
 
 BUSY_WORKER = """\
+import math
+import os
 import re
 import sys
+import time
 import worker.pipeline as pipeline
 real = pipeline.decide
+PARENT = os.getpid()
 
 def decide(problem, conjecture, settings=None):
     # a long native call that keeps the interpreter lock (the horse's own
-    # heartbeat thread cannot run meanwhile): exponential backtracking
-    re.match(r"(a+)+$", "a" * 27 + "b")
+    # heartbeat thread cannot run meanwhile): exponential backtracking, its
+    # length calibrated on this machine to last 7 to 14 seconds (each extra
+    # letter doubles the time); only in the work horse, not in the worker's
+    # own warm-up
+    if os.getpid() == PARENT:
+        return real(problem, conjecture, settings)
+    n = 16
+    while True:
+        t0 = time.perf_counter()
+        re.match(r"(a+)+$", "a" * n + "b")
+        t = time.perf_counter() - t0
+        if t > 0.3:
+            break
+        n += 1
+    n += max(0, math.ceil(math.log2(7.0 / t)))
+    re.match(r"(a+)+$", "a" * n + "b")
     return real(problem, conjecture, settings)
 
 pipeline.decide = decide
