@@ -24,6 +24,7 @@ DEVELOPERS.md, "Corpus runs", has the record layout and the rules.
 
 from __future__ import annotations
 
+import difflib
 import glob
 import hashlib
 import json
@@ -364,8 +365,12 @@ def load_suite(path: str) -> Suite:
     for key, status in ex.items():
         pat = _key_pattern(key)
         if not isinstance(status, str) or status not in V.STATUSES:
-            errs.manifest(f"'{status}' is not an SZS status name", pat, "expectations",
-                          "one of: " + ", ".join(V.STATUSES))
+            close = (difflib.get_close_matches(status, V.STATUSES, n=1, cutoff=0.6)
+                     if isinstance(status, str) else [])
+            hint = "one of: " + ", ".join(V.STATUSES)
+            if close:
+                hint = f"did you mean '{close[0]}'? ({hint})"
+            errs.manifest(f"'{status}' is not an SZS status name", pat, "expectations", hint)
             continue
         file, _, conj = key.partition("#")
         if file not in listed:

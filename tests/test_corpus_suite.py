@@ -186,6 +186,34 @@ def test_every_problem_is_reported_at_once_with_its_location(tmp_path):
     assert text.endswith(f"{len(expected)} problems in the suite; nothing was submitted")
 
 
+def test_a_misspelt_status_gets_the_closest_name(tmp_path):
+    write(tmp_path, {
+        "suite.toml": """\
+            [suite]
+            name = "typos"
+            description = "x"
+            source = "y"
+            time_limit = 5
+            axioms = []
+            problems = ["*.nj"]
+
+            [expectations]
+            "a.nj" = "Theorm"
+            "b.nj" = "Proved"
+            """,
+        "a.nj": "conjecture c: p\n",
+        "b.nj": "conjecture d: q\n",
+    })
+    with pytest.raises(SuiteError) as ei:
+        load_suite(str(tmp_path))
+    errors = ei.value.render().split(str(tmp_path / "suite.toml") + ":")[1:]
+    assert len(errors) == 2, errors
+    assert errors[0].startswith("10:1: error: 'Theorm' is not an SZS status name")
+    assert "did you mean 'Theorem'?" in errors[0]
+    assert errors[1].startswith("11:1: error: 'Proved' is not an SZS status name")
+    assert "did you mean" not in errors[1] and "one of: Theorem," in errors[1]
+
+
 def test_manifest_field_errors_name_their_lines(tmp_path):
     write(tmp_path, {"suite.toml": """\
         [suite]
