@@ -139,8 +139,9 @@ def _table(rows, indent="    ") -> list:
 
 def render_check(rep: dict) -> str:
     n_files = len(rep["files_read"])
-    lines = [f"{rep['file']}: fine ({rep['language']}, {len(rep['statements'])} "
-             f"statements, {n_files} file{'s' if n_files != 1 else ''} read)"]
+    n_st = len(rep["statements"])
+    lines = [f"{rep['file']}: fine ({rep['language']}, {n_st} "
+             f"statement{'s' if n_st != 1 else ''}, {n_files} file{'s' if n_files != 1 else ''} read)"]
     lines.append("  statements")
     lines += _table([(s["role"], s["name"], f"{s['file']}:{s['line']}")
                      for s in rep["statements"]])

@@ -37,6 +37,14 @@ def test_check_human_output_lists_statements_symbols_clauses(capsys):
     assert "sk1/1" in ob      # the dock chosen for each robot in a1
 
 
+def test_check_headline_counts_in_the_singular(tmp_path, capsys):
+    f = tmp_path / "one.nj"
+    f.write_text("axiom only: p(a)\n")
+    code, out, _ = run(["check", str(f)], capsys)
+    assert code == 0
+    assert out.splitlines()[0] == f"{f}: fine (native, 1 statement, 1 file read)"
+
+
 def test_check_json_is_stable(capsys):
     code, out, err = run(["check", "--json", ROBOTS, HALL, "--include-root", LIB], capsys)
     assert code == 0
