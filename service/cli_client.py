@@ -420,7 +420,15 @@ def cmd_demo(args) -> int:
         client.wait(sub["batch"], None if args.json else Progress())
         code = _show_settled(client, sub["batch"], args.json, expected)
         if not args.json:
-            print(f"\nsee one job:  nightjar status <job>   its proof:  nightjar proof <job>")
+            env = "" if "NIGHTJAR_HOME" not in os.environ else f"NIGHTJAR_HOME={home} "
+            if started is not None and not args.keep:
+                print("\nthe demo stops the service it started; to read the jobs "
+                      "afterwards, run it with --keep\n(python3 bootstrap.py demo --keep), then:  "
+                      f"{env}.venv/bin/nightjar status <job>   and   "
+                      f"{env}.venv/bin/nightjar proof <job>")
+            else:
+                print(f"\nsee one job:  {env}nightjar status <job>   "
+                      f"its proof:  {env}nightjar proof <job>")
         return code
     except ServiceUnavailable as e:
         return _no_service(e)
