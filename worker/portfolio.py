@@ -32,6 +32,84 @@ def _model_search(cp, settings):
         return None
 
 
+# The finite-domain argument (see DEVELOPERS.md, "The saturation engine"):
+# claimed for domain-closure clauses of at most this many constants, and only
+# when the checker's exhaustive evaluation stays under its cap (the same
+# figure as worker.certify.proofcheck.FINITE_DOMAIN_CAP).
+FINITE_DOMAIN_MAX_BOUND = 4
+FINITE_DOMAIN_CAP = 300_000
+
+
+def closure_bound(lits):
+    """The number of distinct constants of a domain-closure clause
+    ``X = c_1 or ... or X = c_n`` (all literals positive equations between
+    one and the same variable and constants), or None for any other clause."""
+    var, consts = None, set()
+    for sign, atom in lits:
+        if not (sign and type(atom) is tuple and atom[0] == "=" and len(atom) == 3):
+            return None
+        l, r = atom[1], atom[2]
+        if type(l) is str and type(r) is int:
+            l, r = r, l
+        if type(l) is not int or type(r) is not str or (var is not None and l != var):
+            return None
+        var = l
+        consts.add(r)
+    return len(consts) or None
+
+
+def finite_domain_count(cp, bound: int) -> int:
+    """How many interpretations of the user's symbols (the signature without
+    the Skolem and definition symbols) the domains of size 1..bound have."""
+    user = [s for n, s in (cp.signature or {}).items()
+            if n != "=" and n not in (cp.skolems or {}) and n not in (cp.definitions or {})]
+    total = 0
+    for n in range(1, bound + 1):
+        c = 1
+        for s in user:
+            c *= (2 if s.kind == "predicate" else n) ** (n ** s.arity)
+            if c > FINITE_DOMAIN_CAP:
+                return FINITE_DOMAIN_CAP + 1
+        total += c
+    return total
+
+
+def finite_domain_proof(cp, closure_index: int, bound: int, count: int) -> dict:
+    """The proof: every input clause as an input step, then one
+    ``finite_domain`` step from all of them (DEVELOPERS.md, "Proofs")."""
+    from .syntax.terms import clause_to_json
+    steps, axioms = [], []
+    for k, ic in enumerate(cp.clauses):
+        steps.append({"id": k + 1, "clause": clause_to_json(ic.lits), "rule": "input",
+                      "parents": [], "formula": ic.source, "role": ic.role,
+                      "conj": bool(ic.conj)})
+        if not ic.conj and ic.source not in axioms:
+            axioms.append(ic.source)
+    steps.append({"id": len(steps) + 1, "clause": [], "rule": "finite_domain",
+                  "parents": [st["id"] for st in steps], "closure": closure_index + 1,
+                  "bound": bound, "interpretations": count,
+                  "conj": any(ic.conj for ic in cp.clauses)})
+    return {"steps": steps, "conjecture": cp.conjecture, "axioms_used": axioms,
+            "skolems": {n: {"arity": sk.arity, "statement": sk.statement}
+                        for n, sk in (cp.skolems or {}).items()},
+            "definitions": {n: {"arity": d.arity, "statement": d.statement,
+                                "formula": d.formula, "polarity": d.polarity}
+                            for n, d in (cp.definitions or {}).items()}}
+
+
+def _closure_candidates(cp) -> list:
+    """``(bound, clause index, count)`` for the domain-closure input clauses
+    the argument may use, smallest bound first."""
+    out = []
+    for k, ic in enumerate(cp.clauses):
+        b = closure_bound(ic.lits)
+        if b is not None and b <= FINITE_DOMAIN_MAX_BOUND:
+            count = finite_domain_count(cp, b)
+            if count <= FINITE_DOMAIN_CAP:
+                out.append((b, k, count))
+    return sorted(out)
+
+
 def engine_inputs(cp, equality: str = "builtin") -> list:
     """The clauses the loop starts from: ``(lits, rule, fields, conj)``."""
     inputs = [(ic.lits, "input",
@@ -92,6 +170,25 @@ def run(cp, settings, deadline: float) -> dict:
         return out
 
     ms = _model_search(cp, settings)
+    closures = _closure_candidates(cp) if ms is not None else []
+
+    def finite_domain():
+        """A domain-closure clause bounds every model by n elements and the
+        model search has excluded sizes 1..n: unsatisfiable."""
+        if ms is None:
+            return None
+        excluded = set(getattr(ms, "sizes_excluded", ()))
+        for bound, k, count in closures:
+            if all(n in excluded for n in range(1, bound + 1)):
+                tried.append("finite-domain")
+                return finish({"outcome": "refutation", "strategy": "finite-domain",
+                               "proof": finite_domain_proof(cp, k, bound, count),
+                               "model": None, "complete": False, "limit": None,
+                               "reason": (f"clause {k + 1} allows at most {bound} "
+                                          f"element(s) and no model of size 1..{bound} "
+                                          f"exists"),
+                               "figures": {}})
+        return None
 
     def model_slice(seconds):
         nonlocal ms
@@ -115,7 +212,7 @@ def run(cp, settings, deadline: float) -> dict:
                            "proof": None, "complete": False, "limit": None,
                            "reason": "a finite model of the clauses was found",
                            "figures": {}})
-        return None
+        return finite_domain()
 
     if settings.strategy:
         if settings.strategy not in S.STRATEGIES:

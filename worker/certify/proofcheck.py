@@ -25,7 +25,9 @@ What is checked (DEVELOPERS.md, "Proofs" and "Proof checking"):
   symbol of the clause is the statement's or a fresh Skolem / definition
   symbol declared for that statement;
 * every equality axiom step: the clause is reflexivity, symmetry,
-  transitivity or a congruence axiom of a known symbol with its arity.
+  transitivity or a congruence axiom of a known symbol with its arity;
+* a ``finite_domain`` step (the empty clause from input steps only): see
+  :meth:`_Checker._finite_domain`.
 
 Ordering side conditions are not checked: they matter for completeness, not
 for soundness.
@@ -37,7 +39,7 @@ from ..syntax import terms as T
 from ..syntax.formulas import (And, Atom, Const, Iff, Implies, Not, Or, Quant,
                                CONJECTURE, NEGATED_CONJECTURE)
 from ..syntax.printer import format_clause, format_term
-from . import spotcheck
+from . import exhaust, spotcheck
 from .report import CheckReport
 
 EQ = T.EQ
@@ -45,6 +47,11 @@ EQ = T.EQ
 # How much work the variant test may spend on one pair of clauses before it
 # gives up (and refuses: a refusal is never unsound, only unhelpful).
 VARIANT_BUDGET = 200_000
+
+# A finite_domain step is refused when the exhaustive evaluation would have
+# to look at more interpretations than this (over all sizes 1..bound).  The
+# portfolio (worker/portfolio.py) uses the same figure before it claims one.
+FINITE_DOMAIN_CAP = 300_000
 
 # Input clauses are also evaluated in the small models of their statement
 # (worker/certify/spotcheck.py); the benchmark switches this off to measure
@@ -611,6 +618,30 @@ def equality_axiom_kind(lits, arities: dict) -> str | None:
 
 # ------------------------------------------------------------- the checker
 
+def domain_closure_constants(lits):
+    """The distinct constants of a domain-closure clause ``X = c_1 or ... or
+    X = c_n`` (one variable X, either orientation), or None for any other
+    clause."""
+    var = None
+    consts: set = set()
+    if not lits:
+        return None
+    for sign, atom in lits:
+        if not (sign and _is_eq(atom)):
+            return None
+        l, r = atom[1], atom[2]
+        if type(l) is str and type(r) is int:
+            l, r = r, l
+        if type(l) is not int or type(r) is not str:
+            return None
+        if var is None:
+            var = l
+        elif l != var:
+            return None
+        consts.add(r)
+    return consts
+
+
 def _clause(step, sid):
     try:
         return T.clause_from_json(step.get("clause"))
@@ -632,6 +663,8 @@ class _Checker:
         self._spot = spotcheck.SpotChecker()
         self.spot_checked = 0             # input clauses evaluated in small models
         self._defs_checked: dict = {}     # statement -> "" (fine) or a countermodel
+        self._input_steps: dict = {}      # step id -> the input step (dict)
+        self.finite_detail = ""
         for ic in cp.clauses:
             self._cp_by_source.setdefault(ic.source, []).append(ic)
 
@@ -677,7 +710,8 @@ class _Checker:
         rules = ", ".join(f"{k} {v}" for k, v in sorted(self.rule_counts.items()))
         spot = (f"; {self.spot_checked} of the input clauses also evaluated in "
                 f"small models of their statements" if self.spot_checked else "")
-        return CheckReport(True, len(steps), f"{len(steps)} steps replayed ({rules}){spot}")
+        return CheckReport(True, len(steps), f"{len(steps)} steps replayed ({rules}){spot}"
+                                             f"{self.finite_detail}")
 
     def _introduced(self):
         """Read and check the declared Skolem and definition symbols."""
@@ -724,6 +758,10 @@ class _Checker:
             if parents:
                 raise Refused("an input step has no parents", sid)
             self._input(step, sid, clause)
+            self._input_steps[sid] = step
+            return clause
+        if rule == "finite_domain":
+            self._finite_domain(step, sid, clause, parents)
             return clause
         if rule == "equality_axiom":
             if parents:
@@ -758,6 +796,99 @@ class _Checker:
             raise Refused(f"{rule} yields {_show(_normalized(concl))}, the step records "
                           f"{_show(clause)}", sid)
         return clause
+
+    def _finite_domain(self, step, sid, clause, parents):
+        """The empty clause from a bound on the size of every model.
+
+        The step names input steps (``parents``), one of them the
+        *domain-closure* clause ``closure``: all its literals are positive
+        equations ``X = c_i`` between one variable X and constants c_i,
+        ``bound`` distinct constants in all.  Checked: those shapes, and that
+        an exhaustive evaluation finds no interpretation of the user's
+        symbols (``problem.signature``) over a domain of size 1..bound in
+        which every statement the parents come from holds, as written
+        (``Statement.formula``, before clausification), a conjecture among
+        them read negated.  The conjecture enters only when some parent is
+        conjecture-derived, so a proof without such a parent shows the
+        axioms themselves contradictory.
+
+        Why that is sound: let M be a model of those statements (the
+        conjecture negated).  The Skolem and definition symbols of each
+        statement are fresh and its own, so M extends to a model M' of all
+        their input clauses (the input-step checks vouch that each parent is
+        a clause of its statement's normal form, which is satisfiable over
+        the same domain as the statement).  M' satisfies the closure clause,
+        so every element of its domain, which is M's, equals one of the
+        bound constants: M has at most ``bound`` elements.  Its reduct to
+        the user's symbols is then one of the interpretations evaluated, and
+        none of those satisfies the statements: no such M exists.  The
+        statements (the conjecture negated) are unsatisfiable, i.e. the
+        conjecture follows from the axioms used.
+
+        Refused (never unsound, only unhelpful) when the count of
+        interpretations exceeds ``FINITE_DOMAIN_CAP``."""
+        if clause:
+            raise Refused("a finite_domain step concludes the empty clause", sid)
+        if not parents:
+            raise Refused("a finite_domain step names its input steps as parents", sid)
+        for p in parents:
+            if p not in self._input_steps:
+                raise Refused(f"parent {p!r} of a finite_domain step is not an earlier "
+                              f"input step", sid)
+        closure, bound = step.get("closure"), step.get("bound")
+        if closure not in parents:
+            raise Refused(f"the closure clause {closure!r} is not a parent of the step", sid)
+        if type(bound) is not int or bound < 1:
+            raise Refused(f"the bound {bound!r} is not a positive whole number", sid)
+        consts = domain_closure_constants(self.clauses[closure])
+        if consts is None:
+            raise Refused(f"step {closure}, {_show(self.clauses[closure])}, is not a "
+                          f"domain-closure clause (positive equations between one "
+                          f"variable and constants)", sid)
+        if len(consts) != bound:
+            raise Refused(f"the closure clause of step {closure} names {len(consts)} "
+                          f"constant(s), the step claims the bound {bound}", sid)
+        symbols = {n: (s.kind, s.arity) for n, s in self.problem.signature.items()
+                   if n != EQ}
+        count = exhaust.count_up_to(symbols, bound)
+        if count > FINITE_DOMAIN_CAP:
+            raise Refused(f"evaluating every interpretation of size 1..{bound} would "
+                          f"take {count:,} interpretations, over the cap of "
+                          f"{FINITE_DOMAIN_CAP:,}", sid)
+        if "interpretations" in step and step["interpretations"] != count:
+            raise Refused(f"the step claims {step['interpretations']!r} interpretations, "
+                          f"there are {count}", sid)
+        names = []
+        conj = False
+        for p in parents:
+            ps = self._input_steps[p]
+            conj = conj or bool(ps.get("conj"))
+            if ps["formula"] not in names:
+                names.append(ps["formula"])
+        if "conj" in step and step["conj"] is not conj:
+            raise Refused(f"the step says conj {step['conj']!r}, but "
+                          f"{'some' if conj else 'none'} of its parents come from the "
+                          f"conjecture", sid)
+        formulas = []
+        for name in names:
+            st = self._stmts[name]
+            if st.role == CONJECTURE:
+                if conj:
+                    formulas.append(Not(st.formula))
+            else:
+                formulas.append(st.formula)
+        try:
+            size, evaluated = exhaust.find_model(formulas, symbols, bound)
+        except exhaust.Unevaluable as e:
+            raise Refused(f"the statements cannot be evaluated: {e}", sid)
+        except RecursionError:
+            raise Refused("the statements are nested too deeply to evaluate", sid)
+        what = "the axioms and the negated conjecture" if conj else "the axioms"
+        if size is not None:
+            raise Refused(f"{what} have a model of size {size} (at most {bound} "
+                          f"elements), so the bound proves nothing", sid)
+        self.finite_detail = (f"; no interpretation of size 1..{bound} satisfies {what}: "
+                              f"{evaluated} interpretations evaluated")
 
     def _input(self, step, sid, clause):
         name = step.get("formula")

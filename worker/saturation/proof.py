@@ -93,6 +93,15 @@ def describe_step(st: dict) -> str:
         return f"from {st.get('formula')} ({who})"
     if rule == "equality_axiom":
         return "equality axiom"
+    if rule == "finite_domain":
+        n = st.get("bound")
+        count = st.get("interpretations")
+        counted = f": {count} interpretations evaluated" if count is not None else ""
+        return (f"every model has at most {n} element{'s' if n != 1 else ''} "
+                f"(clause {st.get('closure')}); no interpretation of size 1..{n} "
+                f"satisfies the axioms{' and the negated conjecture' if st.get('conj') else ''}"
+                f"{counted}; "
+                f"from {len(ps)} input clauses")
     sub = _subst_text(st.get("subst") or {})
     lits = st.get("lits") or []
     if rule == "superposition" or rule == "demodulation":
