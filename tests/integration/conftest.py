@@ -18,6 +18,7 @@ from service.config import Config
 from service.embedded import RedisProcess, children, start_worker, stop_processes
 from service.queue import Sweeper, connect
 from service.store import Store
+from tests.hardening import wait_until  # noqa: F401  (shared by the integration and browser tests)
 
 # fast failure detection, so a lost worker's job is retried within seconds
 FAST = {"NIGHTJAR_HEARTBEAT_SECONDS": "0.5", "NIGHTJAR_ALIVE_TTL": "3",
@@ -122,15 +123,3 @@ def api(config, redis_server):
         t.join(5)
 
 
-def wait_until(fn, timeout=60.0, every=0.1, what="condition"):
-    deadline = time.monotonic() + timeout
-    while True:
-        try:
-            v = fn()
-        except Exception:
-            v = None
-        if v:
-            return v
-        if time.monotonic() > deadline:
-            raise AssertionError(f"timed out waiting for {what}")
-        time.sleep(every)
