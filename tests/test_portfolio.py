@@ -106,3 +106,21 @@ def test_unknown_strategy_is_an_input_error():
     cp = cp_of("axiom h: p(a)\nconjecture g: p(a)\n")
     with pytest.raises(InputError):
         portfolio.run(cp, settings(strategy="nonsense"), time.monotonic() + 1)
+
+
+def test_memory_exhausted_in_model_search_reports_memory_out(monkeypatch):
+    """A model search that runs out of memory is dropped and proof search goes
+    on; when the run then ends on time, the limit reported is memory (so the
+    verdict is MemoryOut, not Timeout)."""
+    from worker.models import search as MS
+
+    def boom(self, deadline):
+        raise MemoryError
+    monkeypatch.setattr(MS.ModelSearch, "run", boom)
+    # group commutativity: no proof exists, and with model search failing
+    # nothing else can settle it within the second
+    cp = cp_of(GROUP + "conjecture c: forall x y. x * y = y * x\n")
+    out = portfolio.run(cp, settings(strategy="steady", limits=V.Limits(time=1)),
+                        time.monotonic() + 1)
+    assert out["outcome"] == "limit" and out["limit"] == "memory", out["reason"]
+    assert "memory" in out["reason"]

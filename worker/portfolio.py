@@ -157,6 +157,7 @@ def run(cp, settings, deadline: float) -> dict:
     totals = {k: 0 for k in _SUM}
     tried = []
     notes: list = []
+    memory_hit: list = []
 
     def finish(out):
         figs = dict(out.get("figures") or {})
@@ -199,7 +200,11 @@ def run(cp, settings, deadline: float) -> dict:
         try:
             m = ms.run(end)
         except MemoryError:
+            # the search's tables are dropped to free the memory; proof search
+            # goes on, and a run that then ends on time reports MemoryOut
             ms = None
+            memory_hit.append(True)
+            notes.append("model search stopped: memory limit reached")
             return None
         except Exception as e:   # a failing model search must not stop the proof search
             ms = None
@@ -270,4 +275,8 @@ def run(cp, settings, deadline: float) -> dict:
                     reason="time limit reached")
     if fallback is not None and last["outcome"] == "limit" and last["limit"] == "time":
         last["reason"] = "time limit reached (one strategy saturated, but it was incomplete)"
+    if memory_hit and last["outcome"] == "limit" and last["limit"] == "time":
+        last = dict(last, limit="memory",
+                    reason="memory limit reached in the model search; the proof "
+                           "search then ran out of time")
     return finish(last)
