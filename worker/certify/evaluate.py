@@ -16,7 +16,8 @@ from __future__ import annotations
 
 from itertools import product
 
-from ..syntax.formulas import And, Atom, Const, Iff, Implies, Not, Or, Quant
+from ..syntax.formulas import Quant
+from .compiled import Compiler, close, free_and_max
 from .report import CheckReport
 
 
@@ -41,6 +42,15 @@ class _Tables:
             self.funs[name] = self._table(name, tab, n, is_pred=False)
         for name, tab in (model.get("predicates") or {}).items():
             self.preds[name] = self._table(name, tab, n, is_pred=True)
+
+    def lookup(self, name, kind, k):
+        """The cells of ``name``/``k`` (kind "function" or "predicate")."""
+        tab = (self.funs if kind == "function" else self.preds).get(name)
+        if tab is None:
+            raise ModelError(f"the model gives no table for the {kind} {name}/{k}")
+        if tab[0] != k:
+            raise ModelError(f"the model's {name} has arity {tab[0]}, the formula uses {k}")
+        return tab[1]
 
     @staticmethod
     def _table(name, tab, n, is_pred):
@@ -69,179 +79,8 @@ class _Tables:
         return k, cells
 
 
-class _Compiler:
-    def __init__(self, tables: _Tables):
-        self.t = tables
-        self.n = tables.n
-
-    # ---------------------------------------------------------- terms
-    def term(self, t):
-        if type(t) is int:
-            i = t
-            return lambda env: env[i]
-        if type(t) is str:
-            k, cells = self._fun(t, 0)
-            v = cells[0]
-            return lambda env: v
-        f = t[0]
-        subs = [self.term(a) for a in t[1:]]
-        k, cells = self._fun(f, len(subs))
-        n = self.n
-        if k == 1:
-            a, = subs
-            return lambda env: cells[a(env)]
-        if k == 2:
-            a, b = subs
-            return lambda env: cells[a(env) * n + b(env)]
-
-        def apply(env):
-            i = 0
-            for s in subs:
-                i = i * n + s(env)
-            return cells[i]
-        return apply
-
-    def _fun(self, name, k):
-        tab = self.t.funs.get(name)
-        if tab is None:
-            raise ModelError(f"the model gives no table for the function {name}/{k}")
-        if tab[0] != k:
-            raise ModelError(f"the model's {name} has arity {tab[0]}, the formula uses {k}")
-        return tab
-
-    def _pred(self, name, k):
-        tab = self.t.preds.get(name)
-        if tab is None:
-            raise ModelError(f"the model gives no table for the predicate {name}/{k}")
-        if tab[0] != k:
-            raise ModelError(f"the model's {name} has arity {tab[0]}, the formula uses {k}")
-        return tab
-
-    # ---------------------------------------------------------- formulas
-    def formula(self, f):
-        if isinstance(f, Atom):
-            a = f.term
-            if type(a) is str:
-                v = self._pred(a, 0)[1][0]
-                return lambda env: v
-            if a[0] == "=":
-                l, r = self.term(a[1]), self.term(a[2])
-                return lambda env: l(env) == r(env)
-            subs = [self.term(x) for x in a[1:]]
-            k, cells = self._pred(a[0], len(subs))
-            n = self.n
-            if k == 1:
-                s, = subs
-                return lambda env: cells[s(env)]
-            if k == 2:
-                s, u = subs
-                return lambda env: cells[s(env) * n + u(env)]
-
-            def holds(env):
-                i = 0
-                for s in subs:
-                    i = i * n + s(env)
-                return cells[i]
-            return holds
-        if isinstance(f, Const):
-            v = bool(f.value)
-            return lambda env: v
-        if isinstance(f, Not):
-            a = self.formula(f.arg)
-            return lambda env: not a(env)
-        if isinstance(f, And):
-            parts = [self.formula(x) for x in f.args]
-            if len(parts) == 2:
-                a, b = parts
-                return lambda env: a(env) and b(env)
-            return lambda env: all(p(env) for p in parts)
-        if isinstance(f, Or):
-            parts = [self.formula(x) for x in f.args]
-            if len(parts) == 2:
-                a, b = parts
-                return lambda env: a(env) or b(env)
-            return lambda env: any(p(env) for p in parts)
-        if isinstance(f, Implies):
-            a, b = self.formula(f.left), self.formula(f.right)
-            return lambda env: (not a(env)) or b(env)
-        if isinstance(f, Iff):
-            a, b = self.formula(f.left), self.formula(f.right)
-            return lambda env: a(env) == b(env)
-        if isinstance(f, Quant):
-            body = self.formula(f.body)
-            dom = range(self.n)
-            # A variable that does not occur in the body is not looped over:
-            # on a non-empty domain ``forall x. B`` and ``exists x. B`` are B
-            # when x is not free in B.  Without this ``forall x1 ... x40.
-            # p(x1)`` would take 2**40 steps in a model of two elements.
-            used = set(_free_and_max(f.body)[0])
-            for v in reversed(f.vars):
-                if v in used:
-                    body = self._quant(f.kind, v, body, dom)
-            return body
-        raise ModelError(f"unknown formula node {type(f).__name__}")
-
-    @staticmethod
-    def _quant(kind, v, body, dom):
-        if kind == "forall":
-            def every(env):
-                for d in dom:
-                    env[v] = d
-                    if not body(env):
-                        return False
-                return True
-            return every
-        if kind == "exists":
-            def some(env):
-                for d in dom:
-                    env[v] = d
-                    if body(env):
-                        return True
-                return False
-            return some
-        raise ModelError(f"unknown quantifier {kind!r}")
-
-
-def _free_and_max(f, bound=frozenset(), acc=None, top=None):
-    """(free variables in order of appearance, largest variable) of f."""
-    if acc is None:
-        acc, top = [], [-1]
-
-    def term(t):
-        if type(t) is int:
-            top[0] = max(top[0], t)
-            if t not in bound and t not in acc:
-                acc.append(t)
-        elif type(t) is tuple:
-            for a in t[1:]:
-                term(a)
-
-    if isinstance(f, Atom):
-        if type(f.term) is tuple:
-            for a in f.term[1:]:
-                term(a)
-    elif isinstance(f, Not):
-        _free_and_max(f.arg, bound, acc, top)
-    elif isinstance(f, (And, Or)):
-        for x in f.args:
-            _free_and_max(x, bound, acc, top)
-    elif isinstance(f, (Implies, Iff)):
-        _free_and_max(f.left, bound, acc, top)
-        _free_and_max(f.right, bound, acc, top)
-    elif isinstance(f, Quant):
-        for v in f.vars:
-            top[0] = max(top[0], v)
-        _free_and_max(f.body, bound | set(f.vars), acc, top)
-    return acc, top[0]
-
-
-def _prepare(formula):
-    """Close the formula universally over its free variables (the reading of
-    a clause), return it with the environment size it needs."""
-    free, top = _free_and_max(formula)
-    if free:
-        formula = Quant("forall", tuple(free), formula)
-    return formula, top + 1
+def _compiler(tables: _Tables) -> Compiler:
+    return Compiler(tables.n, tables.lookup, error=ModelError)
 
 
 # Assignments tried at most when looking for the values that falsify a
@@ -254,12 +93,12 @@ def _counterexample(formula, comp, n, varnames):
     ("" when there are too many assignments to try)."""
     if not (isinstance(formula, Quant) and formula.kind == "forall"):
         return ""
-    used = set(_free_and_max(formula.body)[0])
+    used = set(free_and_max(formula.body)[0])
     vs = [v for v in formula.vars if v in used]
     if not vs or n ** len(vs) > MAX_COUNTEREXAMPLE_TRIES:
         return ""
     body = comp.formula(formula.body)
-    _, top = _free_and_max(formula)
+    _, top = free_and_max(formula)
     env = [0] * (top + 1)
     for values in product(range(n), repeat=len(vs)):
         for v, d in zip(vs, values):
@@ -278,7 +117,7 @@ def check_model(model, problem, conjecture) -> CheckReport:
         tables = _Tables(model)
     except ModelError as e:
         return CheckReport(False, 0, f"malformed model: {e}")
-    comp = _Compiler(tables)
+    comp = _compiler(tables)
     checked = 0
     seen_conj = conjecture is None
     for index, st in enumerate(problem.statements):
@@ -286,7 +125,7 @@ def check_model(model, problem, conjecture) -> CheckReport:
         if st.role == "conjecture" and not is_target:
             continue                 # another obligation's conjecture
         try:
-            formula, width = _prepare(st.formula)
+            formula, width = close(st.formula)
             fn = comp.formula(formula)
             value = fn([0] * max(width, 1))
         except ModelError as e:

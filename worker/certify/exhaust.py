@@ -14,7 +14,7 @@ from __future__ import annotations
 from itertools import product
 from math import prod
 
-from ..syntax.formulas import And, Atom, Const, Iff, Implies, Not, Or, Quant
+from .compiled import Compiler, close
 
 # Quantifier steps (one value tried for one bound variable) spent in all at
 # most; past that the search gives up (Unevaluable), so that a statement
@@ -39,142 +39,13 @@ def count_up_to(symbols: dict, bound: int) -> int:
     return sum(interpretations(symbols, n) for n in range(1, bound + 1))
 
 
-def _free(f, bound=frozenset(), acc=None, top=None):
-    """(free variables of ``f`` in order of appearance, largest variable)."""
-    if acc is None:
-        acc, top = [], [-1]
-
-    def term(t):
-        if type(t) is int:
-            top[0] = max(top[0], t)
-            if t not in bound and t not in acc:
-                acc.append(t)
-        elif type(t) is tuple:
-            for a in t[1:]:
-                term(a)
-
-    if isinstance(f, Atom):
-        term(f.term)
-    elif isinstance(f, Not):
-        _free(f.arg, bound, acc, top)
-    elif isinstance(f, (And, Or)):
-        for x in f.args:
-            _free(x, bound, acc, top)
-    elif isinstance(f, (Implies, Iff)):
-        _free(f.left, bound, acc, top)
-        _free(f.right, bound, acc, top)
-    elif isinstance(f, Quant):
-        top[0] = max([top[0], *f.vars])
-        _free(f.body, bound | set(f.vars), acc, top)
-    return acc, top[0]
-
-
-class _Compiler:
-    def __init__(self, n, symbols, tables, budget):
-        self.n = n
-        self.symbols = symbols
-        self.tables = tables            # name -> list of cells (mutated in place)
-        self.budget = budget            # [steps left], shared by all sizes
-
-    def _table(self, name, kind, k):
-        if self.symbols.get(name) != (kind, k):
+def _compiler(n, symbols, tables, budget):
+    def lookup(name, kind, k):
+        if symbols.get(name) != (kind, k):
             raise Unevaluable(f"{name}/{k} is not a {kind} of the signature")
-        return self.tables[name]
-
-    def term(self, t):
-        if type(t) is int:
-            return lambda env: env[t]
-        if type(t) is str:
-            cells = self._table(t, "function", 0)
-            return lambda env: cells[0]
-        subs = [self.term(a) for a in t[1:]]
-        cells = self._table(t[0], "function", len(subs))
-        n = self.n
-
-        def apply(env):
-            i = 0
-            for s in subs:
-                i = i * n + s(env)
-            return cells[i]
-        return apply
-
-    def formula(self, f):
-        if isinstance(f, Atom):
-            a = f.term
-            if type(a) is str:
-                cells = self._table(a, "predicate", 0)
-                return lambda env: cells[0]
-            if a[0] == "=" and len(a) == 3:
-                l, r = self.term(a[1]), self.term(a[2])
-                return lambda env: l(env) == r(env)
-            subs = [self.term(x) for x in a[1:]]
-            cells = self._table(a[0], "predicate", len(subs))
-            n = self.n
-
-            def holds(env):
-                i = 0
-                for s in subs:
-                    i = i * n + s(env)
-                return cells[i]
-            return holds
-        if isinstance(f, Const):
-            v = bool(f.value)
-            return lambda env: v
-        if isinstance(f, Not):
-            a = self.formula(f.arg)
-            return lambda env: not a(env)
-        if isinstance(f, And):
-            parts = [self.formula(x) for x in f.args]
-            return lambda env: all(p(env) for p in parts)
-        if isinstance(f, Or):
-            parts = [self.formula(x) for x in f.args]
-            return lambda env: any(p(env) for p in parts)
-        if isinstance(f, Implies):
-            a, b = self.formula(f.left), self.formula(f.right)
-            return lambda env: (not a(env)) or b(env)
-        if isinstance(f, Iff):
-            a, b = self.formula(f.left), self.formula(f.right)
-            return lambda env: a(env) == b(env)
-        if isinstance(f, Quant):
-            body = self.formula(f.body)
-            # on a non-empty domain a variable not free in the body is not
-            # looped over: Q x. B is B then
-            used = set(_free(f.body)[0])
-            for v in reversed(f.vars):
-                if v in used:
-                    body = self._quant(f.kind, v, body)
-            return body
-        raise Unevaluable(f"unknown formula node {type(f).__name__}")
-
-    def _quant(self, kind, v, body):
-        dom = range(self.n)
-        left = self.budget
-        n = self.n
-
-        def spend():
-            left[0] -= n
-            if left[0] < 0:
-                raise Unevaluable(f"the evaluation took over {MAX_STEPS:,} quantifier "
-                                  f"steps")
-        if kind == "forall":
-            def every(env):
-                spend()
-                for d in dom:
-                    env[v] = d
-                    if not body(env):
-                        return False
-                return True
-            return every
-        if kind == "exists":
-            def some(env):
-                spend()
-                for d in dom:
-                    env[v] = d
-                    if body(env):
-                        return True
-                return False
-            return some
-        raise Unevaluable(f"unknown quantifier {kind!r}")
+        return tables[name]
+    return Compiler(n, lookup, error=Unevaluable, budget=budget,
+                    budget_note=f"the evaluation took over {MAX_STEPS:,} quantifier steps")
 
 
 def find_model(formulas, symbols: dict, bound: int, max_steps: int = MAX_STEPS):
@@ -186,11 +57,9 @@ def find_model(formulas, symbols: dict, bound: int, max_steps: int = MAX_STEPS):
     closed = []
     width = 1
     for f in formulas:
-        free, top = _free(f)
-        if free:
-            f = Quant("forall", tuple(free), f)
+        f, w = close(f)
         closed.append(f)
-        width = max(width, top + 1)
+        width = max(width, w)
     names = sorted(symbols)
     evaluated = 0
     budget = [max_steps]
@@ -202,7 +71,7 @@ def find_model(formulas, symbols: dict, bound: int, max_steps: int = MAX_STEPS):
             tab = tables[name] = [0] * (n ** arity)
             choices = (False, True) if kind == "predicate" else tuple(range(n))
             cells += [(tab, i, choices) for i in range(len(tab))]
-        comp = _Compiler(n, symbols, tables, budget)
+        comp = _compiler(n, symbols, tables, budget)
         fns = [comp.formula(f) for f in closed]
         env = [0] * width
         for values in product(*[c for _, _, c in cells]):
