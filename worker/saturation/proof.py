@@ -9,7 +9,7 @@ them 1..n in dependency order and writes each step's rule fields;
 from __future__ import annotations
 
 from worker.syntax.printer import format_clause, format_term
-from worker.syntax.terms import clause_from_json, clause_to_json, from_json, to_json
+from worker.syntax.terms import clause_from_json, clause_to_json, from_json, to_json, variables
 
 from .clause import renaming
 from .unify import instantiate
@@ -75,12 +75,29 @@ def _pos(p) -> str:
     return ".".join(str(i) for i in p) if p else "root"
 
 
-def _subst_text(subst: dict) -> str:
+def _subst_text(subst: dict, parents=(), offsets=None) -> str:
+    """The substitution in the parents' own variable names: the parents'
+    variables were renamed apart by adding ``offsets[k]``, so variable ``v``
+    belongs to the parent with the largest offset not above it and is shown
+    as ``X<v - offset>@<parent>`` (``X0@3``: variable X0 of step 3)."""
     if not subst:
         return ""
+    offs = list(offsets if offsets is not None else [0] * len(parents))
+    owners = sorted(((o, p) for o, p in zip(offs, parents)), reverse=True)
+
+    def name(v: int) -> str:
+        for o, p in owners:
+            if v >= o:
+                return f"X{v - o}@{p}"
+        return f"X{v}"
+
+    names = {}
     parts = []
     for k, v in subst.items():
-        parts.append(f"X{k} := {format_term(from_json(v))}")
+        t = from_json(v)
+        for x in [int(k), *variables(t)]:
+            names.setdefault(x, name(x))
+        parts.append(f"{names[int(k)]} := {format_term(t, names)}")
     return "; " + ", ".join(parts)
 
 
@@ -102,7 +119,7 @@ def describe_step(st: dict) -> str:
                 f"satisfies the axioms{' and the negated conjecture' if st.get('conj') else ''}"
                 f"{counted}; "
                 f"from {len(ps)} input clauses")
-    sub = _subst_text(st.get("subst") or {})
+    sub = _subst_text(st.get("subst") or {}, ps, st.get("offsets"))
     lits = st.get("lits") or []
     if rule == "superposition" or rule == "demodulation":
         how = "rewrite" if rule == "demodulation" else "superposition"
