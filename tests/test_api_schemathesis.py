@@ -10,7 +10,7 @@ import os
 import fakeredis
 import pytest
 
-schemathesis = pytest.importorskip("schemathesis")
+import schemathesis  # noqa: E402
 from hypothesis import HealthCheck, settings  # noqa: E402
 from schemathesis.checks import not_a_server_error  # noqa: E402
 from schemathesis.specs.openapi.checks import status_code_conformance  # noqa: E402

@@ -57,7 +57,6 @@ def test_default_schedule_names_known_strategies():
 
 
 def test_model_search_answers_a_non_theorem():
-    pytest.importorskip("worker.models.search")
     cp = cp_of("axiom h: forall x. exists y. p(x, y)\nconjecture swap: exists y. forall x. p(x, y)\n")
     out = portfolio.run(cp, settings(), time.monotonic() + 5)
     assert out["outcome"] == "model"
