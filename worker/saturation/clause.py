@@ -10,7 +10,7 @@ own id, so any clause can be traced back to the input.
 
 from __future__ import annotations
 
-from worker.syntax.terms import EQ
+from worker.syntax.terms import EQ, normalize_vars
 
 
 class Clause:
@@ -92,21 +92,8 @@ def normalize(lits, eq_builtin: bool = True) -> tuple[tuple, int]:
                 continue
         seen.add(lit)
         out.append(lit)
-    mapping: dict = {}
-
-    def walk(t):
-        tt = type(t)
-        if tt is int:
-            v = mapping.get(t)
-            if v is None:
-                v = mapping[t] = len(mapping)
-            return v
-        if tt is str:
-            return t
-        return (t[0], *[walk(a) for a in t[1:]])
-
-    res = tuple((s, walk(a)) for s, a in out)
-    return res, len(mapping)
+    atoms, mapping = normalize_vars([a for _, a in out])
+    return tuple((s, a) for (s, _), a in zip(out, atoms)), len(mapping)
 
 
 def has_duplicates(lits, eq_builtin: bool = True) -> bool:

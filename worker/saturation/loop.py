@@ -20,7 +20,7 @@ import heapq
 import os
 import time
 
-from worker.syntax.terms import EQ, apply, rename, subterms
+from worker.syntax.terms import EQ, apply, normalize_vars, rename, subterms
 
 from . import rules as R
 from .clause import Clause, has_duplicates, may_cut, may_subsume, normalize
@@ -623,8 +623,8 @@ class Saturation:
         for lits, rule, fields, conj in self.inputs:
             self.check()
             # the input step records the clause as given (variables renormalized)
-            mapping: dict = {}
-            raw = tuple((sg, _renum(a, mapping)) for sg, a in lits)
+            atoms, mapping = normalize_vars([a for _, a in lits])
+            raw = tuple((sg, a) for (sg, _), a in zip(lits, atoms))
             nv = len(mapping)
             c = Clause(self.next_id, raw, nv, rule, (), dict(fields), conj)
             self.next_id += 1
@@ -708,13 +708,4 @@ class Saturation:
         return f
 
 
-def _renum(t, mapping):
-    tt = type(t)
-    if tt is int:
-        v = mapping.get(t)
-        if v is None:
-            v = mapping[t] = len(mapping)
-        return v
-    if tt is str:
-        return t
-    return (t[0], *[_renum(a, mapping) for a in t[1:]])
+
