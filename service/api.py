@@ -127,12 +127,10 @@ def _number(body, key, default, lo=None, hi=None, what=""):
     return v
 
 
-def _strategies():
-    try:
-        from worker.saturation.strategy import STRATEGIES
-    except ImportError:
-        return None
-    return STRATEGIES
+def strategy_names() -> list[str]:
+    """The named strategies a submission may ask for."""
+    from worker.saturation.strategy import STRATEGIES
+    return sorted(STRATEGIES)
 
 
 def _reuse_key(bundle, conjecture, time_limit, settings) -> str:
@@ -174,10 +172,10 @@ def accept_submission(s, owner: str, body) -> dict:
     if strategy is not None and not isinstance(strategy, str):
         raise BadRequest("bad_request", "strategy must be a name")
     if strategy is not None:
-        known = _strategies()
-        if known is not None and strategy not in known:
+        known = strategy_names()
+        if strategy not in known:
             raise BadRequest("bad_request", f"unknown strategy {strategy!r}; known: "
-                             + ", ".join(sorted(known)))
+                             + ", ".join(known))
     label = body.get("label")
     if label is not None and (not isinstance(label, str) or len(label) > 200):
         raise BadRequest("bad_request", "label must be a text of at most 200 characters")
@@ -273,10 +271,7 @@ def job(jid):
 
 
 def format_proof_text(proof):
-    try:
-        from worker.saturation.proof import format_proof
-    except ImportError:
-        return None
+    from worker.saturation.proof import format_proof
     try:
         return format_proof(proof)
     except Exception as e:   # a printer bug must not hide the proof itself
@@ -284,10 +279,7 @@ def format_proof_text(proof):
 
 
 def format_model_text(model):
-    try:
-        from worker.models.display import format_model
-    except ImportError:
-        return None
+    from worker.models.display import format_model
     try:
         return format_model(model)
     except Exception as e:

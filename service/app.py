@@ -20,8 +20,9 @@ from .config import Config
 from .queue import Dispatcher, connect
 from .store import Store
 
-OPTIONAL_BLUEPRINTS = ("service.corpus_api", "service.web.views",
-                       "service.limits", "service.metrics", "service.openapi")
+# the parts of the app that live in modules of their own, each a Blueprint `bp`
+BLUEPRINTS = ("service.corpus_api", "service.web.views",
+              "service.limits", "service.metrics", "service.openapi")
 
 
 @dataclass
@@ -32,14 +33,8 @@ class Service:
     dispatcher: Dispatcher
 
 
-def _optional_blueprint(app: Flask, module: str) -> None:
-    try:
-        mod = importlib.import_module(module)
-    except ModuleNotFoundError as e:
-        if e.name in (module, module.rsplit(".", 1)[0]):
-            return
-        raise
-    app.register_blueprint(mod.bp)
+def _blueprint(app: Flask, module: str) -> None:
+    app.register_blueprint(importlib.import_module(module).bp)
 
 
 def create_app(config: Config | None = None, redis_client: redis.Redis | None = None) -> Flask:
@@ -56,8 +51,8 @@ def create_app(config: Config | None = None, redis_client: redis.Redis | None = 
 
     from .api import bp as api_bp
     app.register_blueprint(api_bp)
-    for module in OPTIONAL_BLUEPRINTS:
-        _optional_blueprint(app, module)
+    for module in BLUEPRINTS:
+        _blueprint(app, module)
 
     @app.errorhandler(HTTPException)
     def _http_error(e: HTTPException):

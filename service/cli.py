@@ -36,13 +36,7 @@ def build_parser() -> argparse.ArgumentParser:
                      description="Batch theorem proving for first-order logic with equality.")
     sub = parser.add_subparsers(dest="command", metavar="COMMAND", parser_class=_Parser)
     for name in COMMAND_MODULES:
-        try:
-            mod = importlib.import_module(name)
-        except ModuleNotFoundError as e:
-            if e.name == name:
-                continue
-            raise
-        mod.register(sub)
+        importlib.import_module(name).register(sub)
     return parser
 
 

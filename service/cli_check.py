@@ -18,14 +18,6 @@ from worker.syntax.printer import format_clause
 JSON_VERSION = 1
 
 
-def _clausifier():
-    try:
-        from worker.clausify import clausify
-    except ImportError:
-        return None
-    return clausify
-
-
 def register(subparsers) -> None:
     p = subparsers.add_parser(
         "check", help="read problem files and report statements, symbols, clauses",
@@ -67,7 +59,8 @@ class InternalError(Exception):
     """A bug (not the user's input): reported in one line, exit 1."""
 
 
-def _clausify_safely(clausify, problem, conj):
+def _clausify_safely(problem, conj):
+    from worker.clausify import clausify
     try:
         return clausify(problem, conj)
     except InputError:
@@ -108,21 +101,19 @@ def check_file(path: str, args) -> dict:
         "obligations": None,
         "error": None,
     }
-    clausify = _clausifier()
-    if clausify is not None:
-        obs = []
-        for conj in problem.obligations():
-            cp = _clausify_safely(clausify, problem, conj)
-            obs.append({
-                "conjecture": conj,
-                "clauses": len(cp.clauses),
-                "trivial": cp.trivial,
-                "skolems": [{"name": k.name, "arity": k.arity,
-                             "statement": k.statement, "variable": k.variable}
-                            for k in cp.skolems.values()],
-                "definitions": len(cp.definitions),
-            })
-        report["obligations"] = obs
+    obs = []
+    for conj in problem.obligations():
+        cp = _clausify_safely(problem, conj)
+        obs.append({
+            "conjecture": conj,
+            "clauses": len(cp.clauses),
+            "trivial": cp.trivial,
+            "skolems": [{"name": k.name, "arity": k.arity,
+                         "statement": k.statement, "variable": k.variable}
+                        for k in cp.skolems.values()],
+            "definitions": len(cp.definitions),
+        })
+    report["obligations"] = obs
     return report
 
 
@@ -149,20 +140,17 @@ def render_check(rep: dict) -> str:
     lines += _table([(s["name"], s["kind"], f"arity {s['arity']}")
                      for s in rep["symbols"]])
     obs = rep["obligations"]
-    if obs is None:
-        lines.append("  clauses: not computed (the clausifier is not installed)")
-    else:
-        lines.append("  obligations")
-        rows = []
-        for o in obs:
-            what = f"conjecture {o['conjecture']}" if o["conjecture"] else "satisfiability"
-            sk = ", ".join(f"{k['name']}/{k['arity']}" for k in o["skolems"]) or "-"
-            rows.append((what, f"{o['clauses']} clauses",
-                         f"{o['definitions']} definitions", f"skolem: {sk}"))
-        lines += _table(rows)
-        for o in obs:
-            if o["trivial"]:
-                lines.append(f"    note: {o['trivial']}")
+    lines.append("  obligations")
+    rows = []
+    for o in obs:
+        what = f"conjecture {o['conjecture']}" if o["conjecture"] else "satisfiability"
+        sk = ", ".join(f"{k['name']}/{k['arity']}" for k in o["skolems"]) or "-"
+        rows.append((what, f"{o['clauses']} clauses",
+                     f"{o['definitions']} definitions", f"skolem: {sk}"))
+    lines += _table(rows)
+    for o in obs:
+        if o["trivial"]:
+            lines.append(f"    note: {o['trivial']}")
     return "\n".join(lines)
 
 
@@ -201,10 +189,6 @@ def clausify_report(path: str, args) -> dict:
     from service.cli import UsageError
     from worker.syntax.terms import clause_to_json
     problem = _load(path, args)
-    clausify = _clausifier()
-    if clausify is None:
-        raise UsageError("clausify is not available: worker.clausify is not "
-                         "installed in this build")
     if args.conjecture is not None:
         names = [s.name for s in problem.conjectures()]
         if args.conjecture not in names:
@@ -216,7 +200,7 @@ def clausify_report(path: str, args) -> dict:
         wanted = problem.obligations()
     obs = []
     for conj in wanted:
-        cp = _clausify_safely(clausify, problem, conj)
+        cp = _clausify_safely(problem, conj)
         obs.append({
             "conjecture": conj,
             "trivial": cp.trivial,

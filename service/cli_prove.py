@@ -44,10 +44,7 @@ def register(subparsers) -> None:
 
 
 def _format_model(model) -> str:
-    try:
-        from worker.models.display import format_model
-    except ImportError:
-        return json.dumps(model)
+    from worker.models.display import format_model
     return format_model(model)
 
 

@@ -251,10 +251,7 @@ def warm_up() -> None:
 def _horse_killed_handler():
     """service.horse_guard (hardening): a horse that died of exhausted memory
     inside a C extension gets MemoryOut instead of a retry."""
-    try:
-        from .horse_guard import horse_killed
-    except ImportError:
-        return None
+    from .horse_guard import horse_killed
     return horse_killed
 
 

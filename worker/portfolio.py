@@ -22,10 +22,7 @@ _SUM = ("given", "generated", "kept", "demodulations", "forward_subsumed",
 def _model_search(cp, settings):
     if not settings.model_search:
         return None
-    try:
-        from .models.search import ModelSearch
-    except ImportError:
-        return None
+    from .models.search import ModelSearch
     try:
         return ModelSearch(cp, max_size=settings.max_model_size)
     except Exception:        # a model search that cannot start must not stop proving

@@ -811,14 +811,6 @@ def model(jid):
 
 # =================================================================== submit
 
-def _strategies():
-    try:
-        from worker.saturation.strategy import STRATEGIES
-        return sorted(STRATEGIES)
-    except Exception:
-        return []
-
-
 def _read_upload(fs) -> tuple[str, str] | None:
     if fs is None or not fs.filename:
         return None
@@ -927,7 +919,7 @@ def call_submit(body: dict):
 @signed_in
 def submit():
     cfg = svc().config
-    ctx = {"strategies": _strategies(), "default_time": cfg.default_time_limit,
+    ctx = {"strategies": A.strategy_names(), "default_time": cfg.default_time_limit,
            "max_time": cfg.max_time_limit, "form": request.form, "error": None,
            "error_text": None, "error_listing": None}
     if request.method == "GET":
