@@ -42,15 +42,32 @@ def _in_work_horse() -> bool:
     return bool(wp) and wp != str(os.getpid())
 
 
-def _cap_memory(mb: int | None) -> None:
+def _cap_memory(mb: int | None):
+    """Cap the address space of a work horse; returns what :func:`_uncap`
+    needs to lift the cap again (None when nothing was capped)."""
     if not mb or not _in_work_horse():
-        return
+        return None
     import resource
     cap = int(mb) * 1024 * 1024
     soft, hard = resource.getrlimit(resource.RLIMIT_AS)
     if hard != resource.RLIM_INFINITY:
         cap = min(cap, hard)
     resource.setrlimit(resource.RLIMIT_AS, (cap, hard))
+    return soft
+
+
+def _uncap(soft) -> None:
+    """Lift the cap once the search is over, so that writing the verdict
+    (serialising, compressing, the Redis round trip) cannot itself run out of
+    memory: a horse that met its cap may still hold most of it, in freed but
+    unreturned arenas.  Raising a soft limit back up to the hard one needs no
+    privilege."""
+    if soft is None:
+        return
+    import gc
+    import resource
+    gc.collect()
+    resource.setrlimit(resource.RLIMIT_AS, (soft, resource.getrlimit(resource.RLIMIT_AS)[1]))
 
 
 def _retrying(fn, *args):
@@ -142,9 +159,10 @@ def attempt(job_id: str, *, connection=None) -> str:
     n = rec["attempts"]
     beat = _Heartbeat(store, job_id, worker, cfg.heartbeat_seconds, cfg.alive_ttl)
     beat.start()
+    capped = None
     try:
         try:
-            _cap_memory(cfg.memory_mb)
+            capped = _cap_memory(cfg.memory_mb)
             result = decide_record(store, rec, cfg.memory_mb)
         except MemoryError:
             result = _result(V.MEMORY_OUT, "memory limit reached", conjecture=rec.get("conjecture"))
@@ -155,6 +173,8 @@ def attempt(job_id: str, *, connection=None) -> str:
             else:
                 result = _result(V.ERROR, f"internal error: {type(e).__name__}: {e}",
                                  conjecture=rec.get("conjecture"))
+        _uncap(capped)
+        capped = None
         written = _retrying(store.finish, job_id, n, result)
     finally:
         beat.halt.set()

@@ -189,9 +189,10 @@ def test_memory_exhaustion_gives_memory_out_and_the_worker_lives_on(
         jid = hog["jobs"][0]["id"]
         rec = wait_until(lambda: (r := prod_api.store.get_job(jid)) and
                          r["state"] in ("done", "failed") and r, 150, what="hog settled")
-        assert rec["state"] == "done" and rec["verdict"] == "MemoryOut", rec
-        assert rec["attempts"] == 1, rec
-        assert "memory" in (rec["reason"] or ""), rec
+        seen = _whole_story(rec, tmp_path)
+        assert rec["state"] == "done" and rec["verdict"] == "MemoryOut", seen
+        assert rec["attempts"] == 1, seen
+        assert "memory" in (rec["reason"] or ""), seen
         assert proc.poll() is None, "the worker died with its job"
         nxt = c.submit({"problem": one("after.nj", quick(3))})["jobs"][0]["id"]
         rec2 = wait_until(lambda: (r := prod_api.store.get_job(nxt)) and
@@ -202,6 +203,17 @@ def test_memory_exhaustion_gives_memory_out_and_the_worker_lives_on(
               f"{rec['verdict']} after {rec['seconds']} s: {rec['reason']}")
     finally:
         w.stop()
+
+
+def _whole_story(rec, logdir) -> str:
+    """The whole record and the end of each worker log: what a failure of the
+    memory test needs to be understood without rerunning it."""
+    import json
+    parts = [json.dumps(rec, indent=1, sort_keys=True, default=str)]
+    for log in sorted(logdir.glob("**/worker-*.log")):
+        tail = log.read_text(errors="replace").splitlines()[-40:]
+        parts.append(f"--- {log.relative_to(logdir)} (last {len(tail)} lines)\n" + "\n".join(tail))
+    return "\n".join(parts)
 
 
 def worker_pid_of(rec) -> int:
