@@ -304,3 +304,39 @@ def test_a_folder_is_not_a_file(tmp_path, capsys):
 def test_quantifier_slips_get_a_hint(text, hint):
     e = error_of(text)
     assert "expected '.' after the variables" in e.message and hint in e.hint
+
+
+# ------------------------------------------- argument lists, both readers
+
+@pytest.mark.parametrize("text,name,words,line,col", [
+    ("axiom a: p(a b)", "x.nj", "expected ',' or ')' in the arguments of 'p' (opened at "
+     "line 1, column 11), found the name 'b'", 1, 14),
+    ("axiom a: p(f(a, b c))", "x.nj", "expected ',' or ')' in the arguments of 'f' "
+     "(opened at line 1, column 13), found the name 'c'", 1, 19),
+    ("axiom a: p(a,\n  b", "x.nj", "unbalanced brackets: expected ',' or ')' in the "
+     "arguments of 'p' (opened at line 1, column 11), found the end of the file", 2, 4),
+    ("fof(a, axiom, p(a b)).", "x.p", "expected ',' or ')' in the arguments of 'p' "
+     "(opened at line 1, column 16), found the name 'b'", 1, 19),
+    ("fof(a, axiom, p(f(a, b c))).", "x.p", "expected ',' or ')' in the arguments of "
+     "'f' (opened at line 1, column 18), found the name 'c'", 1, 24),
+    ("fof(a, axiom, p(a,\n  b", "x.p", "unbalanced brackets: expected ',' or ')' in "
+     "the arguments of 'p' (opened at line 1, column 16), found", 2, 4),
+])
+def test_argument_list_errors_read_alike_in_both_languages(text, name, words, line, col):
+    e = error_of(text, name=name)
+    assert words in e.message
+    assert where(e) == (line, col)
+    assert e.render().startswith(f"{name}:{line}:{col}: error: ")
+    assert caret_col(e) == col
+
+
+def test_one_argument_list_reader_serves_both_languages():
+    """The ',' / ')' step after an argument and its message are one piece of
+    code (worker/syntax/cursor.py), not a copy in each reader."""
+    from worker.syntax.cursor import TokenCursor
+    from worker.syntax.native import NativeParser
+    from worker.syntax.tptp import TptpParser
+    for cls in (NativeParser, TptpParser):
+        assert issubclass(cls, TokenCursor)
+        assert cls.next_argument is TokenCursor.next_argument
+        assert "next_argument" not in vars(cls)

@@ -23,6 +23,7 @@ from __future__ import annotations
 
 import difflib
 
+from .cursor import TokenCursor
 from .errors import LimitError
 from .formulas import FALSE, TRUE, And, Atom, Iff, Implies, Not, Or, Quant, Statement
 from .lexer import (MAX_DEPTH, STATEMENT_KEYWORDS, Source, describe,
@@ -55,30 +56,15 @@ def suggest_keyword(word: str, choices=TOP_KEYWORDS) -> str | None:
     return m[0] if m else None
 
 
-class NativeParser:
+class NativeParser(TokenCursor):
     """Parse one native file.  ``on_include(path, src, offset, names)``
     returns the statements of an included file (already parsed)."""
 
     def __init__(self, src: Source, symbols, on_include):
-        self.src = src
-        self.symbols = symbols
-        self.on_include = on_include
-        self.k, self.t, self.o = tokenize_native(src)
-        self.i = 0
-        self.depth = 0
-        self.scope: dict = {}
-        self.varnames: dict = {}
+        super().__init__(src, symbols, on_include, tokenize_native)
         self.binders: dict = {}     # var -> offset of its name in the binder
-        self.nvars = 0
-        self.includes = 0
 
     # ------------------------------------------------------------ helpers
-
-    def err(self, message, i=None, hint=None, cls=None):
-        off = self.o[self.i if i is None else i]
-        if cls is None:
-            return self.src.error(message, off, hint)
-        return self.src.error(message, off, hint, cls)
 
     def found(self, i=None) -> str:
         i = self.i if i is None else i
@@ -88,10 +74,6 @@ class NativeParser:
         """Prefix for a missing ')' when the text ends (or a statement starts)
         before it."""
         return "unbalanced brackets: " if self.k[self.i] in _STATEMENT_END else ""
-
-    def where(self, i) -> str:
-        ln, col = self.src.linecol(self.o[i])
-        return f"line {ln}, column {col}"
 
     # ---------------------------------------------------------- top level
 
@@ -374,16 +356,8 @@ class NativeParser:
             args.append(t)
             if td > d:
                 d = td
-            kind = self.k[self.i]
-            if kind == ",":
-                self.i += 1
-                continue
-            if kind == ")":
-                self.i += 1
+            if not self.next_argument(name, open_i):
                 break
-            raise self.err(f"{self.unbalanced()}expected ',' or ')' in the arguments "
-                           f"of '{name}' (opened at {self.where(open_i)}), found "
-                           f"{self.found()}")
         if d + 1 > MAX_DEPTH:
             raise self.err(f"the term is nested too deeply: the limit is "
                            f"{MAX_DEPTH:,} levels of nesting", head_i, cls=LimitError)

@@ -18,6 +18,7 @@ from __future__ import annotations
 
 import difflib
 
+from .cursor import TokenCursor
 from .errors import LimitError
 from .formulas import FALSE, TRUE, And, Atom, Iff, Implies, Not, Or, Quant, Statement
 from .lexer import MAX_DEPTH, Source, describe, tokenize_tptp, unquote
@@ -42,26 +43,11 @@ def _tdescribe(kind, text):
     return describe(kind, text)
 
 
-class TptpParser:
+class TptpParser(TokenCursor):
     def __init__(self, src: Source, symbols, on_include):
-        self.src = src
-        self.symbols = symbols
-        self.on_include = on_include
-        self.k, self.t, self.o = tokenize_tptp(src)
-        self.i = 0
-        self.depth = 0
-        self.scope: dict = {}
-        self.varnames: dict = {}
-        self.nvars = 0
+        super().__init__(src, symbols, on_include, tokenize_tptp)
         self.cnf = False
         self.free: list = []
-        self.includes = 0
-
-    def err(self, message, i=None, hint=None, cls=None):
-        off = self.o[self.i if i is None else i]
-        if cls is None:
-            return self.src.error(message, off, hint)
-        return self.src.error(message, off, hint, cls)
 
     def found(self, i=None):
         i = self.i if i is None else i
@@ -69,10 +55,6 @@ class TptpParser:
 
     def unbalanced(self) -> str:
         return "unbalanced brackets: " if self.k[self.i] in ("eof", ".") else ""
-
-    def where(self, i):
-        ln, col = self.src.linecol(self.o[i])
-        return f"line {ln}, column {col}"
 
     def expect(self, kind, what, hint=None):
         if self.k[self.i] != kind:
@@ -412,15 +394,7 @@ class TptpParser:
             a = self.term()
             self.fun(a, a_i)
             args.append(a)
-            kind = self.k[self.i]
-            if kind == ",":
-                self.i += 1
-                continue
-            if kind == ")":
-                self.i += 1
+            if not self.next_argument(name, open_i):
                 break
-            raise self.err(f"{self.unbalanced()}expected ',' or ')' in the arguments "
-                           f"of '{name}' (opened at {self.where(open_i)}), found "
-                           f"{self.found()}")
         self.depth -= 1
         return tuple(args)
