@@ -16,6 +16,7 @@ from __future__ import annotations
 import hashlib
 import hmac
 import json
+import math
 import secrets
 import time
 import zlib
@@ -25,6 +26,45 @@ import redis
 P = "nj:"
 STATES = ("queued", "running", "done", "failed", "cancelled")
 FINAL_STATES = frozenset({"done", "failed", "cancelled"})
+
+# -- service-wide counters (what GET /metrics shows; see "Storage keys") --
+# Upper bounds (seconds) of the job seconds histogram buckets.
+BUCKETS = (0.01, 0.05, 0.1, 0.25, 0.5, 1.0, 2.5, 5.0, 10.0, 30.0, 60.0, 120.0, 300.0)
+# A job record whose ``metered`` field holds this is included in the counters
+# under ``nj:metrics:<METER_GEN>``; every change of such a job changes them in
+# the same transaction.  A new generation (other buckets, a repair) starts an
+# empty key and the rebuild counts every job into it.
+METER_GEN = "1"
+
+
+def job_counts(state, verdict, seconds) -> dict[str, int]:
+    """What one job adds to the counters: ``s:<state>``, ``v:<verdict>`` and,
+    for a done job with finite seconds, ``count``, ``sum_us`` (integer
+    microseconds, so sums are exact and order-free) and ``h:<i>``: the index
+    of the first bucket it fits (``h:inf`` for none); render cumulates."""
+    state, verdict, seconds = _s(state), _s(verdict), _s(seconds)
+    out = {}
+    if not state:
+        return out
+    out["s:" + state] = 1
+    if verdict:
+        out["v:" + verdict] = 1
+    if state == "done" and seconds not in (None, ""):
+        try:
+            x = float(seconds)
+        except ValueError:
+            return out
+        if math.isfinite(x):
+            out["count"] = 1
+            out["sum_us"] = round(x * 1e6)
+            out[f"h:{next((i for i, b in enumerate(BUCKETS) if x <= b), 'inf')}"] = 1
+    return out
+
+
+def _add_counts(into: dict, counts: dict, sign: int = 1) -> None:
+    for k, v in counts.items():
+        into[k] = into.get(k, 0) + sign * v
+
 
 # fields of a job hash that hold JSON
 _JSON_FIELDS = ("certificate", "settings", "axioms_used")
@@ -72,7 +112,7 @@ def job_record(h: dict) -> dict:
     for f in ("verdict", "strategy", "worker", "started", "finished", "seconds",
               "reason", "label", "reused_from", "lost"):
         d.setdefault(f, None)
-    for f in ("problem", "reuse_key", "rq", "redispatched"):
+    for f in ("problem", "reuse_key", "rq", "redispatched", "metered"):
         d.pop(f, None)
     return d
 
@@ -109,6 +149,8 @@ class Store:
     K_RUNNING = f"{P}running"
     K_QUEUED = f"{P}queued"          # zset: job id -> when it was (last) queued
     K_TOKENS = f"{P}tokens"          # hash: token name -> sha256 of the token
+    K_METRICS = f"{P}metrics:{METER_GEN}"          # hash: the service-wide counters
+    K_METRICS_LOCK = f"{P}metrics:{METER_GEN}:lock"  # string, TTL: a rebuild is on
     @staticmethod
     def k_token(sha): return f"{P}token:{sha}"
 
@@ -161,6 +203,7 @@ class Store:
         pipe = self.r.pipeline(transaction=True)
         pipe.multi()     # explicit: RQ's enqueue joins this transaction
         counts: dict[str, int] = {}
+        metered: dict[str, int] = {}
         pids = {}
         for i, j in enumerate(jobs):
             jid = new_id("j")
@@ -173,7 +216,7 @@ class Store:
                    "problem": pids[key], "submitted": now, "attempts": 0,
                    "time_limit": j["time_limit"], "queue": queue_name,
                    "settings": json.dumps(settings), "label": label or "",
-                   "reuse_key": j.get("reuse_key") or ""}
+                   "reuse_key": j.get("reuse_key") or "", "metered": METER_GEN}
             src = reused.get(i)
             if src is not None:
                 rec.update({"state": "done", "verdict": src["verdict"],
@@ -191,6 +234,8 @@ class Store:
             else:
                 rec["state"] = "queued"
                 counts["queued"] = counts.get("queued", 0) + 1
+            _add_counts(metered, job_counts(rec["state"], rec.get("verdict"),
+                                            str(rec.get("seconds", ""))))
             pipe.hset(self.k_job(jid), mapping={k: str(v) for k, v in rec.items()})
             pipe.rpush(self.k_batch_jobs(bid), jid)
             if src is None and enqueue is not None:
@@ -201,6 +246,7 @@ class Store:
         if counts:
             pipe.hset(self.k_counts(bid), mapping={k: str(v) for k, v in counts.items()})
         pipe.zadd(self.k_owner_batches(owner), {bid: now})
+        self._stage_counts(pipe, metered)
         pipe.execute()
         return bid, ids
 
@@ -309,12 +355,27 @@ class Store:
                 except redis.WatchError:
                     continue
 
-    def _move(self, pipe, rec, new_state, verdict=None):
+    def _move(self, pipe, rec, new_state, verdict=None, seconds=None):
+        """The counter changes of ``rec`` going to ``new_state`` (with its
+        verdict and seconds, when it gets them), on ``pipe`` inside the
+        guarded transaction of the move, so they happen exactly once."""
         ck = self.k_counts(rec["batch"])
         pipe.hincrby(ck, rec["state"], -1)
         pipe.hincrby(ck, new_state, 1)
         if verdict:
             pipe.hincrby(ck, "v:" + verdict, 1)
+        if rec.get("metered") == METER_GEN:
+            delta: dict[str, int] = {}
+            _add_counts(delta, job_counts(rec["state"], rec.get("verdict"),
+                                          rec.get("seconds")), -1)
+            _add_counts(delta, job_counts(new_state, verdict or rec.get("verdict"),
+                                          rec.get("seconds") if seconds is None else seconds))
+            self._stage_counts(pipe, delta)
+
+    def _stage_counts(self, pipe, delta: dict[str, int]) -> None:
+        for k, v in delta.items():
+            if v:
+                pipe.hincrby(self.K_METRICS, k, v)
 
     def start_attempt(self, jid: str, worker: str, alive_ttl: float) -> dict | None:
         """queued -> running; returns the record (attempts counted) or None if
@@ -354,10 +415,11 @@ class Store:
             return rec["state"] == "running" and int(rec.get("attempts") or 0) == attempt
 
         def change(pipe, rec):
-            self._move(pipe, rec, "done", status)
+            seconds = str(result.get("seconds") or 0.0)
+            self._move(pipe, rec, "done", status, seconds)
             pipe.hset(self.k_job(jid), mapping={
                 "state": "done", "verdict": status,
-                "seconds": str(result.get("seconds") or 0.0),
+                "seconds": seconds,
                 "strategy": result.get("strategy") or "",
                 "reason": result.get("reason") or "",
                 "certificate": json.dumps(result.get("certificate") or {}),
@@ -446,19 +508,34 @@ class Store:
         if not b["finished"]:
             raise Conflict("the batch has jobs that have not settled; cancel it first")
         ids = self.batch_job_ids(bid)
-        pipe = self.r.pipeline(transaction=False)
-        for jid in ids:
-            pipe.hmget(self.k_job(jid), ["reuse_key", "owner"])
-        reuse = pipe.execute()
-        pipe = self.r.pipeline(transaction=True)
-        pipe.multi()
-        for jid, (rk, owner) in zip(ids, reuse):
-            pipe.delete(self.k_job(jid), self.k_result(jid), self.k_alive(jid))
-            pipe.zrem(self.K_QUEUED, jid)
-            pipe.srem(self.K_RUNNING, jid)
-        pipe.delete(self.k_batch(bid), self.k_batch_jobs(bid), self.k_counts(bid))
-        pipe.zrem(self.k_owner_batches(b["owner"]), bid)
-        pipe.execute()
+        while True:
+            # WATCH the jobs: the counters lose exactly what the deleted
+            # records held (a rebuild may mark one as counted meanwhile)
+            with self.r.pipeline(transaction=True) as pipe:
+                try:
+                    if ids:
+                        pipe.watch(*[self.k_job(jid) for jid in ids])
+                    reads = self.r.pipeline(transaction=False)
+                    for jid in ids:
+                        reads.hmget(self.k_job(jid), ["reuse_key", "owner", "state",
+                                                      "verdict", "seconds", "metered"])
+                    fields = reads.execute()
+                    pipe.multi()
+                    delta: dict[str, int] = {}
+                    for jid, (rk, owner, st, vd, sec, m) in zip(ids, fields):
+                        if _s(m) == METER_GEN:
+                            _add_counts(delta, job_counts(st, vd, sec), -1)
+                        pipe.delete(self.k_job(jid), self.k_result(jid), self.k_alive(jid))
+                        pipe.zrem(self.K_QUEUED, jid)
+                        pipe.srem(self.K_RUNNING, jid)
+                    pipe.delete(self.k_batch(bid), self.k_batch_jobs(bid), self.k_counts(bid))
+                    pipe.zrem(self.k_owner_batches(b["owner"]), bid)
+                    self._stage_counts(pipe, delta)
+                    pipe.execute()
+                    break
+                except redis.WatchError:
+                    continue
+        reuse = [(rk, owner) for rk, owner, *_ in fields]
         # a reuse entry pointing at a deleted job is dropped (compare, then delete)
         for jid, (rk, owner) in zip(ids, reuse):
             if rk:
@@ -466,6 +543,59 @@ class Store:
                 if _s(self.r.get(key)) == jid:
                     self.r.delete(key)
         return len(ids)
+
+    # -- service-wide counters ---------------------------------------------
+    def counters(self) -> dict[str, int] | None:
+        """The counters (``job_counts`` fields summed over every counted
+        job), or None until a rebuild has counted the records made before
+        them (the ``ready`` field)."""
+        h = _decode_hash(self.r.hgetall(self.K_METRICS))
+        if h.pop("ready", None) is None:
+            return None
+        return {k: int(v) for k, v in h.items()}
+
+    def rebuild_counters(self, scan_count: int = 1000) -> int:
+        """Count every job record not counted yet (those made before the
+        counters, or by an older generation) and mark it counted, then mark
+        the counters ready.  Each group of records is read under WATCH and
+        counted with its marks in one transaction, so a job is counted once
+        even while jobs move, are deleted, or another process rebuilds too.
+        Returns the number of records it counted."""
+        n = 0
+        cursor = 0
+        while True:
+            cursor, keys = self.r.scan(cursor, match=f"{P}job:*", count=scan_count)
+            keys = [k for k in keys if _s(k).count(":") == 2]   # nj:job:<id> only
+            if keys:
+                n += self._count_records(keys)
+            if int(cursor) == 0:
+                break
+        self.r.hset(self.K_METRICS, "ready", str(time.time()))
+        return n
+
+    def _count_records(self, keys) -> int:
+        while True:
+            with self.r.pipeline(transaction=True) as pipe:
+                try:
+                    pipe.watch(*keys)
+                    reads = self.r.pipeline(transaction=False)
+                    for k in keys:
+                        reads.hmget(k, ["state", "verdict", "seconds", "metered"])
+                    rows = reads.execute()
+                    pipe.multi()
+                    delta: dict[str, int] = {}
+                    n = 0
+                    for k, (st, vd, sec, m) in zip(keys, rows):
+                        if st is None or _s(m) == METER_GEN:
+                            continue        # deleted, or counted already
+                        _add_counts(delta, job_counts(st, vd, sec))
+                        pipe.hset(k, "metered", METER_GEN)
+                        n += 1
+                    self._stage_counts(pipe, delta)
+                    pipe.execute()
+                    return n
+                except redis.WatchError:
+                    continue
 
     def running_jobs(self) -> list[str]:
         return [_s(x) for x in self.r.smembers(self.K_RUNNING)]
