@@ -6,7 +6,8 @@ a hook that runs before every request under ``/api`` and ``/metrics``:
 * **rate limit per token**: a token bucket per bearer token (by the token's
   SHA-256), ``NIGHTJAR_RATE_PER_SECOND`` requests a second (default 20) with
   bursts up to ``NIGHTJAR_RATE_BURST`` (default 200).  Over it: 429 with
-  ``Retry-After``.  The buckets live in the API process (no Redis write per
+  ``Retry-After``.  The console's submit form takes from the same bucket
+  (``rate_refusal``, by the hash its session keeps).  The buckets live in the API process (no Redis write per
   request, which with ``appendfsync always`` would cost an fsync per status
   poll), so with k API processes a token gets up to k times the rate.
 * **JSON bodies**: nesting deeper than ``MAX_JSON_DEPTH`` (64), more than
@@ -158,6 +159,31 @@ def _json_depth_ok(raw: bytes) -> bool:
     return True
 
 
+def token_key(token: str) -> str:
+    """The rate limiter's key for a token: its SHA-256 in hex, the same as
+    ``Store.token_hash`` (which the console's session keeps)."""
+    return hashlib.sha256(token.encode("utf-8", "surrogateescape")).hexdigest()
+
+
+def rate_refusal(key: str) -> tuple[float, str] | None:
+    """Count one request against the bucket of the token whose SHA-256 is
+    ``key``: None when it may go on, else (seconds to wait, the message).
+    The API's hook and the console's submit form both call this, so a
+    token has one budget whichever way it submits."""
+    lim = current_app.extensions.get("nightjar_limits")
+    if lim is None:
+        return None
+    wait = lim.rate.take(key)
+    if wait <= 0:
+        return None
+    return wait, (f"too many requests for this token: at most {lim.rate.rate:g} a "
+                  f"second (bursts of {lim.rate.burst:g}); try again in {wait:.1f} s")
+
+
+def retry_after_header(wait: float) -> str:
+    return str(max(1, math.ceil(wait)))
+
+
 @bp.before_app_request
 def _limits():
     path = request.path
@@ -172,15 +198,11 @@ def _limits():
     # Rate limit: by token; requests without one are refused by the API anyway.
     tok = bearer_token()
     if tok is not None:
-        key = hashlib.sha256(tok.encode("utf-8", "surrogateescape")).hexdigest()
-        wait = lim.rate.take(key)
-        if wait > 0:
-            resp = _error(429, "rate_limited",
-                          f"too many requests for this token: at most "
-                          f"{lim.rate.rate:g} a second (bursts of {lim.rate.burst:g}); "
-                          f"try again in {wait:.1f} s",
-                          retry_after=round(wait, 2))
-            resp.headers["Retry-After"] = str(max(1, math.ceil(wait)))
+        over = rate_refusal(token_key(tok))
+        if over is not None:
+            wait, message = over
+            resp = _error(429, "rate_limited", message, retry_after=round(wait, 2))
+            resp.headers["Retry-After"] = retry_after_header(wait)
             return resp
     if len(request.args) > MAX_QUERY_PARAMS:
         return _error(400, "bad_request", f"at most {MAX_QUERY_PARAMS} query parameters")

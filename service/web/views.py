@@ -32,6 +32,7 @@ from werkzeug.exceptions import HTTPException
 
 from .. import api as A
 from .. import corpus as C
+from .. import limits as L
 from ..store import FINAL_STATES, STATES
 from worker import verdict as V
 
@@ -198,7 +199,8 @@ def _safe_next(nxt: str | None) -> str:
 
 TITLES = {400: "That request is not understood", 401: "Sign in first",
           403: "Not allowed", 404: "Not found", 405: "Not allowed here",
-          413: "Too large", 503: "The store is not answering"}
+          413: "Too large", 429: "Too many requests",
+          503: "The store is not answering"}
 
 
 def error_page(status: int, message: str):
@@ -924,6 +926,15 @@ def submit():
            "error_text": None, "error_listing": None}
     if request.method == "GET":
         return render_template("submit.html", **ctx)
+    # the API's rate limit, from the same bucket as the signed-in token's API calls
+    over = L.rate_refusal(session["tok"])
+    if over is not None:
+        wait, message = over
+        ctx["error"] = (message[:1].upper() + message[1:] +
+                        ". Nothing was queued; send the form again then.")
+        resp = current_app.make_response((render_template("submit.html", **ctx), 429))
+        resp.headers["Retry-After"] = L.retry_after_header(wait)
+        return resp
     try:
         body = submission_body(request.form, request.files)
     except Bad as e:
