@@ -9,7 +9,9 @@
     DELETE /api/batches/<id>                  a settled batch, its jobs and results
     GET  /api/jobs/<id>                       the job record
     GET  /api/jobs/<id>/proof                 proof as JSON and as text
-    GET  /api/jobs/<id>/model                 countermodel as JSON and as text
+    GET  /api/jobs/<id>/model                 countermodel as JSON and as text (404
+                                              for a Satisfiable/CounterSatisfiable
+                                              verdict without one: from saturation)
     GET  /api/jobs/<id>/figures
     GET  /api/jobs/<id>/problem               the problem text as submitted
     POST /api/jobs/<id>/cancel
@@ -30,6 +32,7 @@ from flask import Blueprint, current_app, g, jsonify, request
 from .auth import api_error, owns, require_owner
 from .config import QUEUE_BATCH, QUEUE_INTERACTIVE, QUEUES
 from .store import FINAL_STATES, STATES
+from worker import verdict as V
 
 bp = Blueprint("api", __name__, url_prefix="/api")
 
@@ -297,11 +300,32 @@ def job_proof(jid):
                     "text": format_proof_text(proof) if proof else None})
 
 
+def no_model_message(rec) -> str:
+    """Why a job has no stored model, in words (the API's 404 and the
+    console's)."""
+    jid, verdict = rec["id"], rec.get("verdict")
+    if verdict in V.REFUTED:
+        cert = rec.get("certificate") or {}
+        if cert.get("kind") == "none":
+            return (f"job {jid} has no model: its {verdict} verdict came from "
+                    f"saturation (the clauses saturated under a complete strategy "
+                    f"without reaching the empty clause), not from a finite model, "
+                    f"so there is no model to show")
+        return f"job {jid} has no stored model (its verdict is {verdict})"
+    if verdict:
+        return f"job {jid} has no model (its verdict is {verdict})"
+    return f"job {jid} has no model yet (it is {rec['state']})"
+
+
 @bp.get("/jobs/<jid>/model")
 @require_owner
 def job_model(jid):
     rec = _job_or_404(jid)
     model = svc().store.get_result(jid)["model"]
+    if model is None and rec.get("verdict") in V.REFUTED:
+        # a Satisfiable/CounterSatisfiable verdict without a model: say why,
+        # rather than a null a client would take for a missing countermodel
+        raise BadRequest("no_model", no_model_message(rec), status=404)
     return jsonify({"id": jid, "state": rec["state"], "verdict": rec["verdict"],
                     "model": model, "text": format_model_text(model) if model else None})
 

@@ -4,6 +4,8 @@ that keeps what was sent.  Flask test client over fakeredis."""
 
 from __future__ import annotations
 
+import io
+
 import fakeredis
 import pytest
 
@@ -65,3 +67,66 @@ def test_web_submissions_share_the_api_rate_budget_of_their_token(monkeypatch):
     bob = Console(e.app, e.r, e.store)
     bob.sign_in(e.bob)
     assert bob.submit(GOOD).status_code == 303
+
+
+# ============================ 3. a model link only where a model is stored
+
+# Nine pairwise distinct constants: no model of at most 8 elements (the
+# model search's bound), while the clause set saturates at once under a
+# complete strategy, so the verdict is CounterSatisfiable without a model.
+NINE = [f"k{i}" for i in range(1, 10)]
+SATURATES = "".join(f"axiom d{a}_{b}: {NINE[a]} != {NINE[b]}\n"
+                    for a in range(9) for b in range(a + 1, 9)) + "conjecture far: q(k1)\n"
+FINITE = "axiom a1: forall x. p(x) implies q(x)\naxiom a2: p(c)\nconjecture near: q(d)\n"
+
+
+def settled_pair(e):
+    """A batch of two CounterSatisfiable jobs, worked off with the real
+    engine: one by a finite model, one by saturation.  (job ids by name)"""
+    resp = e.submit(None, files=[(io.BytesIO(SATURATES.encode()), "saturates.nj"),
+                                 (io.BytesIO(FINITE.encode()), "finite.nj")])
+    assert resp.status_code == 303, resp.get_data(as_text=True)
+    bid = resp.headers["Location"].rsplit("/", 1)[1]
+    assert e.run_all() == 2
+    ids = {e.store.get_job(j)["conjecture"]: j for j in e.store.batch_job_ids(bid)}
+    return bid, ids
+
+
+def test_a_verdict_from_saturation_gets_no_model_link_and_a_404_that_says_why(env):
+    env.sign_in(env.alice)
+    bid, ids = settled_pair(env)
+    far, near = ids["far"], ids["near"]
+    for jid in (far, near):
+        assert env.store.get_job(jid)["verdict"] == "CounterSatisfiable"
+    assert env.store.get_job(far)["certificate"]["kind"] == "none"     # from saturation
+    assert env.store.get_result(far)["model"] is None
+    assert env.store.get_result(near)["model"] is not None
+
+    # the batch table links the stored model and only it
+    page = env.get(f"/batches/{bid}")
+    assert f'href="/jobs/{near}/model"' in page
+    assert f'href="/jobs/{far}/model"' not in page
+    row = page.split(f'href="/jobs/{far}"')[1].split("</tr>")[0]
+    assert "saturated, no model" in row
+
+    # the job page: no model button, a line saying why
+    job = env.get(f"/jobs/{far}")
+    assert 'id="model-link"' not in job
+    assert 'id="no-model"' in job and "came from saturation" in job
+    assert 'id="model-link"' in env.get(f"/jobs/{near}")
+
+    # the console's model page and the API: 404 with the reason
+    assert "came from saturation" in env.get(f"/jobs/{far}/model", status=404)
+    api = {"Authorization": f"Bearer {env.alice}"}
+    r = env.client.get(f"/api/jobs/{far}/model", headers=api)
+    assert r.status_code == 404 and r.is_json
+    err = r.get_json()["error"]
+    assert err["code"] == "no_model"
+    assert f"job {far} has no model: its CounterSatisfiable verdict came from saturation" \
+        in err["message"]
+    ok = env.client.get(f"/api/jobs/{near}/model", headers=api)
+    assert ok.status_code == 200 and ok.get_json()["model"]["size"] >= 1
+    # someone else asking about the job is still told there is no such job
+    bob = {"Authorization": f"Bearer {env.bob}"}
+    other = env.client.get(f"/api/jobs/{far}/model", headers=bob)
+    assert other.status_code == 404 and other.get_json()["error"]["code"] == "not_found"

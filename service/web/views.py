@@ -402,6 +402,24 @@ def light_rows(bid: str) -> list[dict]:
     return out
 
 
+def stored_results(jobs: list[dict]) -> dict:
+    """job id -> (a proof is stored, a model is stored), for the finished jobs
+    among ``jobs`` (two pipelined HEXISTS each; the others: no, no).  A
+    CounterSatisfiable verdict from saturation has no model, so the verdict
+    alone cannot tell whether to link one."""
+    store = svc().store
+    done = [j["id"] for j in jobs if j.get("verdict")]
+    pipe = store.r.pipeline(transaction=False)
+    for jid in done:
+        pipe.hexists(store.k_result(jid), "proof")
+        pipe.hexists(store.k_result(jid), "model")
+    flags = pipe.execute() if done else []
+    out = {j["id"]: (False, False) for j in jobs}
+    for n, jid in enumerate(done):
+        out[jid] = (bool(flags[2 * n]), bool(flags[2 * n + 1]))
+    return out
+
+
 def _sort_key(sort):
     if sort == "name":
         return lambda r: (r["name"].lower(), r["index"])
@@ -502,8 +520,10 @@ def batch(bid):
     shown = chosen[(page - 1) * per: page * per]
     recs = {r["id"]: r for r in svc().store.get_jobs([r["id"] for r in shown])}
     jobs = [recs[r["id"]] for r in shown if r["id"] in recs]
+    stored = stored_results(jobs)
     for j in jobs:
         j["name"] = _name(j)
+        j["has_proof"], j["has_model"] = stored[j["id"]]
 
     args = {k: v for k, v in (("state", state), ("verdict", verdict), ("q", q),
                               ("min_s", request.args.get("min_s")),
@@ -603,6 +623,8 @@ def job(jid):
     return render_template(
         "job.html", j=rec, name=_name(rec), files=files, figures=figures, mark=mark,
         has_proof=res.get("proof") is not None, has_model=res.get("model") is not None,
+        no_model=(A.no_model_message(rec) if rec.get("verdict") in V.REFUTED
+                  and res.get("model") is None else None),
         settings=rec.get("settings") or {}, cert=rec.get("certificate") or {},
         running=rec["state"] in ("queued", "running"), live=rec["state"] not in FINAL_STATES,
         sig=_signature(_job_live(rec)), live_url=url_for("web.job_live", jid=jid),
@@ -805,8 +827,7 @@ def model(jid):
     rec = A._job_or_404(jid)
     m = svc().store.get_result(jid).get("model")
     if m is None:
-        abort(404, f"job {jid} has no model" + (f" (its verdict is {rec['verdict']})"
-                                                 if rec.get("verdict") else " yet"))
+        abort(404, A.no_model_message(rec))
     return render_template("model.html", j=rec, name=_name(rec), mv=model_view(m),
                            text=A.format_model_text(m))
 
