@@ -4,7 +4,9 @@ that keeps what was sent.  Flask test client over fakeredis."""
 
 from __future__ import annotations
 
+import html
 import io
+import re
 
 import fakeredis
 import pytest
@@ -130,3 +132,82 @@ def test_a_verdict_from_saturation_gets_no_model_link_and_a_404_that_says_why(en
     bob = {"Authorization": f"Bearer {env.bob}"}
     other = env.client.get(f"/api/jobs/{far}/model", headers=bob)
     assert other.status_code == 404 and other.get_json()["error"]["code"] == "not_found"
+
+
+# ============================== 4. a refused upload keeps what was sent
+
+BAD_UPLOAD = "# two lines before <b>the</b> slip & more\n\naxiom a: p(a b)\nconjecture g: p(a, a)\n"
+
+
+def textareas(page, name):
+    """The values of the textareas called ``name``, as a browser reads them
+    (entities decoded, the one newline after the opening tag dropped)."""
+    out = []
+    for m in re.finditer(r'<textarea[^>]*\bname="%s"[^>]*>(.*?)</textarea>' % name, page, re.S):
+        v = html.unescape(m.group(1))
+        out.append(v[1:] if v.startswith("\n") else v)
+    return out
+
+
+def inputs(page, name):
+    return [html.unescape(v) for v in re.findall(r'<input[^>]*\bname="%s" value="([^"]*)"' % name, page)]
+
+
+def test_a_refused_upload_comes_back_in_the_form_and_can_be_sent_again(env):
+    env.sign_in(env.alice)
+    resp = env.submit(None, label="kept <label>", time_limit="7",
+                      files=[(io.BytesIO(BAD_UPLOAD.encode()), "bad.nj"),
+                             (io.BytesIO(GOOD.encode()), "good.nj")],
+                      axiom_files=[])
+    page = resp.get_data(as_text=True)
+    assert resp.status_code == 400
+    # the error at its line, as before
+    assert "The input has an error; nothing was queued." in page
+    assert "bad.nj:3:14: error: expected &#39;,&#39; or &#39;)&#39;" in page
+    assert re.search(r'<tr class="error-line" id="error-line"><td class="ln">3</td>', page)
+    # both files are in the form again, each its own editable text, escaped
+    assert inputs(page, "kept_name") == ["bad.nj", "good.nj"]
+    assert textareas(page, "kept_text") == [BAD_UPLOAD, GOOD]
+    assert "<b>the</b>" not in page and "&lt;b&gt;the&lt;/b&gt; slip &amp; more" in page
+    assert 'value="kept &lt;label&gt;"' in page and 'value="7"' in page
+    assert env.store.r.keys("nj:batch:*") == []                     # nothing stored
+
+    # fix the slip in the kept text and send the form again, choosing no file
+    fixed = textareas(page, "kept_text")[0].replace("p(a b)", "p(a, b)")
+    again = env.client.post("/submit", content_type="multipart/form-data", data={
+        "csrf": env.csrf(), "label": "kept <label>", "time_limit": "7",
+        "kept_name": inputs(page, "kept_name"), "kept_text": [fixed, GOOD]})
+    assert again.status_code == 303, again.get_data(as_text=True)
+    bid = again.headers["Location"].rsplit("/", 1)[1]
+    recs = [env.store.get_job(j) for j in env.store.batch_job_ids(bid)]
+    assert [(r["file"], r["conjecture"]) for r in recs] == \
+        [("bad.nj", "g"), ("good.nj", "g"), ("good.nj", "h")]
+    assert recs[0]["label"] == "kept <label>"
+
+
+def test_kept_files_can_be_replaced_left_out_and_pasted_text_is_kept(env):
+    env.sign_in(env.alice)
+    # a pasted problem with a slip: the text comes back as written
+    pasted = "\naxiom a: p and\n"
+    resp = env.submit(pasted, name="mine.nj")
+    page = resp.get_data(as_text=True)
+    assert resp.status_code == 400 and "mine.nj:2:15: error: missing operand" in page
+    assert textareas(page, "text") == [pasted]                     # its first empty line too
+    # a kept file chosen again under its name is replaced; an emptied one is left out
+    resp = env.client.post("/submit", content_type="multipart/form-data", data={
+        "csrf": env.csrf(), "kept_name": ["bad.nj", "gone.nj"],
+        "kept_text": [BAD_UPLOAD, ""],
+        "files": [(io.BytesIO(b"axiom a: p(c)\nconjecture g: p(c)\n"), "bad.nj")]})
+    assert resp.status_code == 303, resp.get_data(as_text=True)
+    jid = resp.headers["Location"].rsplit("/", 1)[1]
+    assert env.store.get_job(jid)["file"] == "bad.nj"
+    # kept axiom files come back too, and a file that is not UTF-8 is named
+    resp = env.client.post("/submit", content_type="multipart/form-data", data={
+        "csrf": env.csrf(), "text": "conjecture g: q(c)\n",
+        "axiom_files": [(io.BytesIO(b"axiom a: forall x. p(x) implies q(x)\n"), "ax.nj"),
+                        (io.BytesIO(b"axiom b: caf\xe9\n"), "latin.nj")]})
+    page = resp.get_data(as_text=True)
+    assert resp.status_code == 400 and "the file &#39;latin.nj&#39; is not UTF-8 text" in page
+    assert inputs(page, "kept_axioms_name") == ["ax.nj"]
+    assert textareas(page, "kept_axioms_text") == ["axiom a: forall x. p(x) implies q(x)\n"]
+    assert textareas(page, "text") == ["conjecture g: q(c)\n"]

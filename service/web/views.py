@@ -838,25 +838,60 @@ def _read_upload(fs) -> tuple[str, str] | None:
     if fs is None or not fs.filename:
         return None
     raw = fs.read()
+    name = os.path.basename(fs.filename.replace("\\", "/")) or "upload"
     try:
         text = raw.decode("utf-8")
     except UnicodeDecodeError:
-        raise Bad(f"the file {fs.filename!r} is not UTF-8 text")
-    return os.path.basename(fs.filename.replace("\\", "/")) or "upload", text
+        raise Bad(f"the file {name!r} is not UTF-8 text")
+    return name, text
 
 
-def submission_body(form, files) -> dict:
-    """The JSON API's submission body made from the form."""
+def _files_of(form, files, kept_prefix, upload_field, bad: list) -> list:
+    """The files of one part of the form: those kept from the last try
+    (``<kept_prefix>_name`` / ``<kept_prefix>_text``, in order; an emptied
+    text leaves its file out), then the uploads of ``upload_field`` (one
+    under a kept file's name replaces it).  A file that cannot be read adds
+    its message to ``bad`` and is left out."""
+    names, texts = form.getlist(kept_prefix + "_name"), form.getlist(kept_prefix + "_text")
+    if len(names) != len(texts):
+        bad.append("the kept files of the form do not match; choose the files again")
+        names, texts = [], []
+    ups = []
+    for fs in files.getlist(upload_field):
+        try:
+            up = _read_upload(fs)
+        except Bad as e:
+            bad.append(str(e))
+            continue
+        if up:
+            ups.append(up)
+    chosen = {n for n, _ in ups}
+    kept = [((n or "").strip() or "upload", t) for n, t in zip(names, texts) if t.strip()]
+    return [(n, t) for n, t in kept if n not in chosen] + ups
+
+
+def form_files(form, files) -> dict:
+    """What the form sends besides its settings: the pasted problem, the
+    problem files (kept and uploaded), the pasted axioms and the axiom
+    files, and the messages of files that could not be read."""
+    bad: list = []
+    return {"files": _files_of(form, files, "kept", "files", bad),
+            "axiom_files": _files_of(form, files, "kept_axioms", "axiom_files", bad),
+            "bad": bad}
+
+
+def submission_body(form, got: dict) -> dict:
+    """The JSON API's submission body made from the form (``got``: what
+    ``form_files`` read from it)."""
     language = form.get("language") or None
     if language not in (None, "native", "tptp"):
         raise Bad("language must be native, tptp or automatic")
+    if got["bad"]:
+        raise Bad("; ".join(got["bad"]))
     problems = []
     if (form.get("text") or "").strip():
         problems.append(((form.get("name") or "").strip() or "pasted", form["text"]))
-    for fs in files.getlist("files"):
-        up = _read_upload(fs)
-        if up:
-            problems.append(up)
+    problems += got["files"]
     if not problems:
         raise Bad("paste a problem or choose at least one file")
     names = [n for n, _ in problems]
@@ -866,10 +901,7 @@ def submission_body(form, files) -> dict:
     ax = []
     if (form.get("axioms_text") or "").strip():
         ax.append(((form.get("axioms_name") or "").strip() or "axioms", form["axioms_text"]))
-    for fs in files.getlist("axiom_files"):
-        up = _read_upload(fs)
-        if up:
-            ax.append(up)
+    ax += got["axiom_files"]
     body: dict = {}
     if ax:
         body["axioms"] = {"main": [n for n, _ in ax] if len(ax) > 1 else ax[0][0],
@@ -944,9 +976,13 @@ def submit():
     cfg = svc().config
     ctx = {"strategies": A.strategy_names(), "default_time": cfg.default_time_limit,
            "max_time": cfg.max_time_limit, "form": request.form, "error": None,
-           "error_text": None, "error_listing": None}
+           "error_text": None, "error_listing": None, "kept": [], "kept_axioms": []}
     if request.method == "GET":
         return render_template("submit.html", **ctx)
+    # what was sent comes back in the form when it is refused: the pasted
+    # texts as they were, every file read into an editable text of its own
+    got = form_files(request.form, request.files)
+    ctx["kept"], ctx["kept_axioms"] = got["files"], got["axiom_files"]
     # the API's rate limit, from the same bucket as the signed-in token's API calls
     over = L.rate_refusal(session["tok"])
     if over is not None:
@@ -957,7 +993,7 @@ def submit():
         resp.headers["Retry-After"] = L.retry_after_header(wait)
         return resp
     try:
-        body = submission_body(request.form, request.files)
+        body = submission_body(request.form, got)
     except Bad as e:
         ctx["error"] = str(e)
         return render_template("submit.html", **ctx), 400
