@@ -8,41 +8,17 @@ import html
 import io
 import re
 
-import fakeredis
-import pytest
-
-from service.app import create_app
-from service.config import Config
-from service.store import Store
+from service.limits import RateLimiter
 from tests.test_web_pages import GOOD, Console
-
-
-def make_console(monkeypatch, rate=None, burst=None):
-    monkeypatch.delenv("NIGHTJAR_SECRET_KEY", raising=False)
-    monkeypatch.delenv("NIGHTJAR_COOKIE_SECURE", raising=False)
-    if rate is not None:
-        monkeypatch.setenv("NIGHTJAR_RATE_PER_SECOND", str(rate))
-        monkeypatch.setenv("NIGHTJAR_RATE_BURST", str(burst))
-    r = fakeredis.FakeRedis()
-    cfg = Config(max_time_limit=60, default_time_limit=10, max_upload_bytes=200_000)
-    app = create_app(cfg, r)
-    store = Store(r)
-    e = Console(app, r, store)
-    e.alice = store.add_token("alice")
-    e.bob = store.add_token("bob")
-    return e
-
-
-@pytest.fixture
-def env(monkeypatch):
-    return make_console(monkeypatch)
+from tests.test_web_pages import env  # noqa: F401  (the console over fakeredis)
 
 
 # ============================================ 2. the submit form is rate-limited
 
-def test_web_submissions_share_the_api_rate_budget_of_their_token(monkeypatch):
+def test_web_submissions_share_the_api_rate_budget_of_their_token(env):
     # a budget of 3 requests with next to no refill: the test cannot outrun it
-    e = make_console(monkeypatch, rate=0.001, burst=3)
+    e = env
+    e.app.extensions["nightjar_limits"].rate = RateLimiter(rate=0.001, burst=3)
     api = {"Authorization": f"Bearer {e.alice}"}
     e.sign_in(e.alice)
     assert e.client.get("/api/batches", headers=api).status_code == 200     # 1
