@@ -98,3 +98,30 @@ def test_precedence_and_weights_can_be_overridden():
     k = make_kbo(lits, ar, symbol_order=("g", "f"), symbol_weights=(("g", 3), ("f", 0)))
     assert k.gt(("g", 0), ("f", 0))          # heavier wins; the weight 0 is ignored
     assert k.weights == {"g": 3}
+
+
+PERMUTATIVE_PAIRS = [(("g", 0, 1), ("g", 1, 0)),                       # commutativity
+                     (("g", 0, ("g", 1, 2)), ("g", 1, ("g", 0, 2))),     # left commutativity
+                     (("f", ("h", 0, 1, 2)), ("f", ("h", 2, 0, 1)))]
+
+
+@given(st.sampled_from(KBOS), st.sampled_from(PERMUTATIVE_PAIRS),
+       st.dictionaries(st.integers(0, 2), terms(), min_size=3, max_size=3))
+@settings(max_examples=300, deadline=None)
+def test_balanced_comparison_agrees_with_the_full_one(k, pair, sub):
+    """Instances of the two sides of a permutative equation: the shortcut that
+    skips the weight pass decides exactly as the full comparison."""
+    from worker.saturation.loop import permutative
+    l, r = pair
+    assert permutative(l, r)
+    s, t = instantiate(l, sub), instantiate(r, sub)
+    assert k.gt_balanced(s, t) == k.gt(s, t)
+    assert k.gt_balanced(t, s) == k.gt(t, s)
+
+
+def test_permutative_needs_the_same_symbols_and_variables():
+    from worker.saturation.loop import permutative
+    assert permutative(("g", 0, 1), ("g", 1, 0))
+    assert not permutative(("g", 0, 1), ("g", 0, 0))            # x*y vs x*x
+    assert not permutative(("g", 0, ("f", 1)), ("g", 1, 0))     # a symbol lost
+    assert permutative(("f", ("g", 0, 1)), ("g", ("f", 0), 1))  # same symbols, heads differ

@@ -99,6 +99,11 @@ def _direct(q, mode):
     return (NONE,) if q == NONE else None
 
 
+# _direct for the three markers, looked up instead of computed (symbols are
+# handled inline by the retrieval)
+_DIRECT = {m: {q: _direct(q, m) for q in (VAR, BELOW, NONE)} for m in ("unify", "gen", "inst")}
+
+
 def fingerprint_deep(t) -> tuple:
     """:func:`fingerprint` at the positions ``DEEP``."""
     base = fingerprint8(t)
@@ -222,31 +227,37 @@ class FingerprintIndex:
         self.size += 1
 
     def _retrieve(self, query, mode):
-        ok = _OK[mode]
+        # level by level: the frontier of trie nodes compatible with the
+        # query's features so far (cheaper in Python than a stack of pairs)
         fp = self._fp(query)
-        last = len(fp) - 1
-        out = []
-        stack = [(self.root, 0)]
-        pop = stack.pop
-        push = stack.append
-        while stack:
-            node, d = pop()
-            q = fp[d]
-            keys = _direct(q, mode)
+        nodes = [self.root]
+        direct = _DIRECT[mode]
+        for q in fp:
+            keys = direct.get(q) if type(q) is not str else (
+                (q,) if mode == "inst" else (q, VAR, BELOW))
+            nxt = []
             if keys is None:
-                children = [c for e, c in node.items() if ok(q, e)]
+                ok = _OK[mode]
+                for node in nodes:
+                    for e, c in node.items():
+                        if ok(q, e):
+                            nxt.append(c)
+            elif len(keys) == 1:
+                k = keys[0]
+                for node in nodes:
+                    c = node.get(k)
+                    if c is not None:
+                        nxt.append(c)
             else:
-                children = [c for c in map(node.get, keys) if c is not None]
-            if d == last:
-                for leaf in children:
-                    for entry in leaf:
-                        if entry[1][0].alive:
-                            out.append(entry)
-            else:
-                d += 1
-                for c in children:
-                    push((c, d))
-        return out
+                for node in nodes:
+                    for k in keys:
+                        c = node.get(k)
+                        if c is not None:
+                            nxt.append(c)
+            if not nxt:
+                return nxt
+            nodes = nxt
+        return [entry for leaf in nodes for entry in leaf if entry[1][0].alive]
 
     def unifiable(self, query):
         return self._retrieve(query, "unify")

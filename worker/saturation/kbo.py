@@ -151,6 +151,25 @@ class KBO:
                 return self.gt(a, b)
         return False
 
+    def gt_balanced(self, s, t) -> bool:
+        """``s > t`` for terms known to have the same weight and the same
+        variable multiset (instances of the two sides of a permutative
+        equation): the weight pass is skipped, the rest is :meth:`gt`."""
+        ts = type(s)
+        tt = type(t)
+        if ts is int or tt is int or s == t:
+            return self.gt(s, t)
+        f = s if ts is str else s[0]
+        g = t if tt is str else t[0]
+        if f != g:
+            return self._prec_gt(f, g)
+        if ts is str:
+            return False
+        for a, b in zip(s[1:], t[1:]):
+            if a != b:
+                return self.gt(a, b)
+        return False
+
     def compare(self, s, t):
         """GT, LT, EQUAL or INCOMPARABLE."""
         if s == t:

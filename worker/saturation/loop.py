@@ -17,6 +17,7 @@ once per given clause.
 from __future__ import annotations
 
 import heapq
+from collections import Counter
 import os
 import time
 
@@ -57,6 +58,28 @@ def rss_mb() -> float:
             return int(f.read().split()[1]) * _PAGE / (1 << 20)
     except (OSError, ValueError, IndexError):
         return 0.0
+
+
+PERMUTATIVE = "permutative"    # a demodulator entry's orientation, besides True / False
+
+
+def _symbols(t, out: Counter) -> Counter:
+    stack = [t]
+    while stack:
+        x = stack.pop()
+        if type(x) is tuple:
+            out[x[0]] += 1
+            stack.extend(x[1:])
+        else:
+            out[x] += 1
+    return out
+
+
+def permutative(l, r) -> bool:
+    """Do both sides hold the same symbols and variables, each as often?
+    Then every instance of the two sides has the same weight and the same
+    variables, and only the lexicographic part of the ordering decides."""
+    return _symbols(l, Counter()) == _symbols(r, Counter())
 
 
 def _is_renaming(m: dict) -> bool:
@@ -107,6 +130,9 @@ class Saturation:
         # term -> number of demodulators when it was last found irreducible:
         # only demodulators added later need to be tried on it again
         self.irreducible: dict = {}
+        # term -> (unit, side, matcher) that rewrote it last time, wherever
+        # the step did not depend on the clause it was in
+        self.redexes: dict = {}
         self.demod_seq = 0
         self.cut_max = CUT_MAX_LITS
         self.wheap: list = []
@@ -253,10 +279,13 @@ class Saturation:
             elif cmp == "<":
                 self.demod.insert(r, (c, 1, True, q))
             elif cmp is None:
+                # unorientable: each instance is checked when used; instances
+                # of a permutative equation (x + y = y + x) need no weights
+                how = PERMUTATIVE if permutative(l, r) else False
                 if type(l) is not int:
-                    self.demod.insert(l, (c, 0, False, q))
+                    self.demod.insert(l, (c, 0, how, q))
                 if type(r) is not int:
-                    self.demod.insert(r, (c, 1, False, q))
+                    self.demod.insert(r, (c, 1, how, q))
         ks, ka = lits[c.key]
         self.subkey[ks].insert(ka, (c, c.key))
         if self.is_eq(ka):
@@ -340,6 +369,12 @@ class Saturation:
         seen = self.irreducible.get(t)
         if seen == self.demod_seq:
             return None          # no demodulator can rewrite t or its subterms
+        hit = self.redexes.get(t)
+        if hit is not None and hit[0].alive and hit[0] is not c and (
+                guard is None or len(pos) != 1):
+            # t was rewritten before, in another clause: the same step again
+            # (it need not be innermost any more; any redex will do)
+            return hit[0], hit[1], pos, hit[2]
         if type(t) is tuple:
             for k in range(1, len(t)):
                 found = self._find(t[k], pos + (k,), c, guard)
@@ -358,7 +393,8 @@ class Saturation:
             if not match(l, t, m):
                 continue
             rr = instantiate(a.lits[0][1][2 - side], m)
-            if not oriented and not kbo.gt(t, rr):
+            if oriented is not True and not (
+                    kbo.gt_balanced(t, rr) if oriented is PERMUTATIVE else kbo.gt(t, rr)):
                 continue
             if guard is not None and len(pos) == 1:
                 # a whole side of a positive equation: the unit's instance must
@@ -367,6 +403,10 @@ class Saturation:
                 if not kbo.gt(other, rr) and _is_renaming(m):
                     blocked = True
                     continue
+            else:
+                if len(self.redexes) > 200_000:
+                    self.redexes.clear()
+                self.redexes[t] = (a, side, m)
             return a, side, pos, m
         if not blocked:
             if len(self.irreducible) > 200_000:
