@@ -21,7 +21,6 @@ PROBLEM = "axiom a1: p(c)\nconjecture g1: p(c)\nconjecture g2: q(c)\nconjecture 
 
 @pytest.fixture
 def served(tmp_path, monkeypatch):
-    monkeypatch.setenv("NIGHTJAR_METRICS_CACHE_SECONDS", "0")
     rp = RedisProcess(tmp_path / "redis").start()
     try:
         r = connect(rp.url)
