@@ -310,6 +310,7 @@ def cmd_status(args) -> int:
 
 @_guarded
 def cmd_proof(args) -> int:
+    from .client import ApiError
     client = _client(args)
     p = client.proof(args.id)
     if p.get("proof"):
@@ -318,7 +319,17 @@ def cmd_proof(args) -> int:
         else:
             print(p["text"] or json.dumps(p["proof"], indent=1))
         return EXIT_OK
-    m = client.model(args.id)
+    try:
+        m = client.model(args.id)
+    except ApiError as e:
+        if e.code != "no_model":
+            raise
+        # settled without a model (saturation): nothing to show, say why
+        if args.json:
+            print(json.dumps(dict(p, reason=str(e))))
+        else:
+            print(f"nightjar: {e}", file=sys.stderr)
+        return EXIT_UNDECIDED
     if m.get("model"):
         if args.json:
             print(json.dumps(m))

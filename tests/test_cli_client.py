@@ -127,3 +127,30 @@ def test_demo_submission_is_accepted_by_the_api():
     got = {(j["file"], j["conjecture"]) for j in resp.get_json()["jobs"]}
     assert set(expected) <= got
     assert Queue("nj-batch", connection=r).count == len(got)
+
+
+class _NoModelClient:
+    """Answers as the API does for a CounterSatisfiable verdict that came from
+    saturation: no proof, and a 404 ``no_model`` for the model."""
+    def proof(self, jid):
+        return {"id": jid, "state": "done", "verdict": "CounterSatisfiable",
+                "proof": None, "text": None}
+
+    def model(self, jid):
+        from service.client import ApiError
+        raise ApiError(404, {"code": "no_model", "text": f"job {jid} has no model: its "
+                             "CounterSatisfiable verdict came from saturation"})
+
+
+@pytest.mark.parametrize("json_out", [False, True])
+def test_proof_of_a_saturation_verdict_says_why_and_exits_3(json_out, capsys, monkeypatch):
+    monkeypatch.setattr(cli_client, "_client", lambda args: _NoModelClient())
+    code = cli.main(["proof", "j9"] + (["--json"] if json_out else []))
+    out, err = capsys.readouterr()
+    assert code == 3
+    if json_out:
+        rec = json.loads(out)
+        assert rec["verdict"] == "CounterSatisfiable" and "came from saturation" in rec["reason"]
+    else:
+        assert err.strip() == ("nightjar: job j9 has no model: its CounterSatisfiable "
+                               "verdict came from saturation")
