@@ -810,7 +810,9 @@ class _Checker:
         (``Statement.formula``, before clausification), a conjecture among
         them read negated.  The conjecture enters only when some parent is
         conjecture-derived, so a proof without such a parent shows the
-        axioms themselves contradictory.
+        axioms themselves contradictory (the portfolio produces one when the
+        axioms alone have no small model; the pipeline then reports
+        ContradictoryAxioms, and this evaluation is what vouches for it).
 
         Why that is sound: let M be a model of those statements (the
         conjecture negated).  The Skolem and definition symbols of each
