@@ -22,7 +22,8 @@ from worker import verdict as V
 from worker.certify.proofcheck import check_proof
 from worker.clausify import clausify
 from worker.pipeline import decide
-from worker.portfolio import (_closure_candidates, closure_bound, finite_domain_proof)
+from worker.portfolio import (_closure_candidates, axiom_part, closure_bound,
+                              finite_domain_answer, finite_domain_proof)
 from worker.saturation.proof import format_proof
 from worker.syntax import load_problem, parse_text
 
@@ -45,6 +46,29 @@ axiom dom: forall z. z = a or z = b or z = c or z = d
 axiom distinct: a != b and a != c and a != d and b != c and b != d and c != d
 axiom op: forall x y. g(x, y) = g(y, x)
 conjecture comm: forall x. g(x, x) = x
+"""
+
+
+# Contradictory axioms, settled by the bound: a corridor of two rooms where
+# every move changes the room, yet some double move does not come back.  On
+# two elements ``across`` without a fixed point is the swap, so
+# across(across(x)) = x everywhere; one element has no move at all.  The
+# conjecture is beside the point.
+CORRIDOR = """\
+axiom rooms: forall z. z = left or z = right
+axiom moves: forall x. across(x) != x
+axiom stray: exists x. across(across(x)) != x
+conjecture lit: lamp(left)
+"""
+
+# The same axioms with no conjecture.
+CORRIDOR_ONLY = "\n".join(CORRIDOR.splitlines()[:3]) + "\n"
+
+# The bound comes from the negated conjecture (not every element is a or b),
+# the axioms (three distinct elements) have a model of size 3.
+BOUND_IN_CONJ = """\
+axiom three: exists x y z. x != y and x != z and y != z
+conjecture wide: exists z. z != a and z != b
 """
 
 
@@ -186,6 +210,120 @@ def test_over_the_cap_the_checker_refuses():
     pf = finite_domain_proof(cp, k, 4, 0)
     del _fd(pf)["interpretations"]
     _refused(pf, problem, "comm", "over the cap")
+
+
+# ------------------------------------------------------------- contradictory axioms
+
+def _all_sizes(bound):
+    return set(range(1, bound + 1))
+
+
+def test_contradictory_axioms_under_a_bound_give_an_axioms_only_proof():
+    problem = parse_text(CORRIDOR, "corridor.nj")
+    cp = clausify(problem, "lit")
+    closures = _closure_candidates(cp)
+    assert [b for b, _, _ in closures] == [2]
+    got = finite_domain_answer(cp, closures, _all_sizes(2), float("inf"))
+    assert got["axioms_only"] is True, got["reason"]
+    pf = got["proof"]
+    assert not any(st.get("conj") for st in pf["steps"])
+    assert _fd(pf)["conj"] is False and _fd(pf)["bound"] == 2
+    assert len(pf["steps"]) == len(axiom_part(cp).clauses) + 1
+    rep = check_proof(pf, problem, cp)
+    assert rep.ok, rep.detail
+    assert "no interpretation of size 1..2 satisfies the axioms:" in rep.detail, rep.detail
+    # nothing excluded yet: no claim at all
+    assert finite_domain_answer(cp, closures, {1}, float("inf")) is None
+
+
+def test_contradictory_axioms_under_a_bound_are_reported_as_such():
+    """Through the pipeline: the first model-search slice runs before any
+    saturation strategy, so the finite-domain argument answers first."""
+    problem = parse_text(CORRIDOR, "corridor.nj")
+    res = decide(problem, "lit", _settings())
+    assert res["status"] == V.CONTRADICTORY_AXIOMS, (res["status"], res["reason"])
+    assert res["strategy"] == "finite-domain"
+    assert res["certificate"]["kind"] == "proof-replayed", res["certificate"]
+    assert "satisfies the axioms: 66 interpretations evaluated" in res["certificate"]["detail"]
+    assert res["axioms_used"] == ["rooms", "moves", "stray"]
+    assert re.search(r"satisfies the axioms: 66 interpretations evaluated; from 3 input",
+                     format_proof(res["proof"]))
+
+
+def test_without_a_conjecture_the_same_axioms_stay_unsatisfiable():
+    problem = parse_text(CORRIDOR_ONLY, "corridor-only.nj")
+    (res,) = [decide(problem, c, _settings()) for c in problem.obligations()]
+    assert res["status"] == V.UNSATISFIABLE, (res["status"], res["reason"])
+    assert res["strategy"] == "finite-domain"
+    assert res["certificate"]["kind"] == "proof-replayed"
+
+
+@pytest.mark.parametrize("rel", ["pelletier/p49.p"] + P53)
+def test_pelletier_49_and_53_keep_the_conjecture(rel):
+    """Their axioms have a two-element model: the axioms-only search finds
+    it, and the proof is the one with the negated conjecture."""
+    problem, conj = _p53(rel)
+    cp = clausify(problem, conj)
+    closures = _closure_candidates(cp)
+    bound = closures[0][0]
+    got = finite_domain_answer(cp, closures, _all_sizes(bound), float("inf"))
+    assert got["axioms_only"] is False
+    assert _fd(got["proof"])["conj"] is True
+    assert check_proof(got["proof"], problem, cp).ok
+    res = decide(problem, conj, _settings())
+    assert res["status"] == V.THEOREM, (res["status"], res["reason"])
+
+
+def test_a_bound_from_the_negated_conjecture_gives_a_theorem():
+    problem = parse_text(BOUND_IN_CONJ, "wide.nj")
+    cp = clausify(problem, "wide")
+    closures = _closure_candidates(cp)
+    assert closures and all(cp.clauses[k].conj for _, k, _ in closures)
+    got = finite_domain_answer(cp, closures, _all_sizes(2), float("inf"))
+    assert got["axioms_only"] is False and _fd(got["proof"])["conj"] is True
+    res = decide(problem, "wide", _settings())
+    assert res["status"] == V.THEOREM, (res["status"], res["reason"])
+
+
+def _without_statement(proof, name):
+    """The proof with the input steps of one statement cut out."""
+    pf = copy.deepcopy(proof)
+    gone = {st["id"] for st in pf["steps"] if st.get("formula") == name}
+    pf["steps"] = [st for st in pf["steps"] if st["id"] not in gone]
+    _fd(pf)["parents"] = [p for p in _fd(pf)["parents"] if p not in gone]
+    pf["axioms_used"] = [a for a in pf["axioms_used"] if a != name]
+    return pf
+
+
+def test_an_axioms_only_claim_with_a_small_model_is_refused():
+    """Mutation: without ``stray`` the remaining axioms have a two-element
+    model (the swap), so the claim that they are contradictory is refused."""
+    problem = parse_text(CORRIDOR, "corridor.nj")
+    cp = clausify(problem, "lit")
+    got = finite_domain_answer(cp, _closure_candidates(cp), _all_sizes(2), float("inf"))
+    assert check_proof(got["proof"], problem, cp).ok        # the unmutated proof passes
+    pf = _without_statement(got["proof"], "stray")
+    _refused(pf, problem, "lit", "the axioms have a model of size 2")
+
+
+def test_a_forged_contradictory_axioms_claim_ends_in_error(p53_result, monkeypatch):
+    """Mutation: P53's proof without its conjecture steps would read as
+    ContradictoryAxioms; h1 has a two-element model, so the checker refuses
+    and the pipeline reports Error, never the forged status."""
+    problem, conj, res = p53_result
+    pf = _without_statement(res["proof"], conj)
+    _fd(pf)["conj"] = False
+    assert not any(st.get("conj") for st in pf["steps"])
+    _refused(pf, problem, conj, "the axioms have a model of size 2")
+
+    import worker.portfolio as portfolio
+    monkeypatch.setattr(portfolio, "run", lambda cp, settings, deadline: {
+        "outcome": "refutation", "strategy": "finite-domain", "proof": copy.deepcopy(pf),
+        "model": None, "complete": False, "limit": None, "reason": "", "figures": {}})
+    forged = decide(problem, conj, _settings())
+    assert forged["status"] == V.ERROR, forged["status"]
+    assert forged["certificate"]["kind"] == "failed"
+    assert "have a model of size 2" in forged["reason"]
 
 
 # ------------------------------------------------------------- the web console
