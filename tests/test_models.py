@@ -632,3 +632,43 @@ def test_deadline_is_kept_among_many_clauses_without_two_variables():
     m = s.run()
     assert m is not None and m["size"] == 1
     assert all(m["predicates"][f"p{i}"]["values"] == [[[0], True]] for i in range(n))
+
+
+def _pigeonhole(n):
+    """n + 1 pigeons in n holes: unsatisfiable and hard for resolution-based
+    SAT solvers (a fact of common practice); n = 10 keeps minisat busy for far
+    longer than the deadlines below."""
+    v = lambda p, h: p * n + h + 1    # noqa: E731
+    cls = [[v(p, h) for h in range(n)] for p in range(n + 1)]
+    for h in range(n):
+        for p, q in itertools.combinations(range(n + 1), 2):
+            cls.append([-v(p, h), -v(q, h)])
+    return cls
+
+
+class _DeafTimer:
+    """A timer whose thread never fires (as when it fails near a memory cap)."""
+    def __init__(self, *_a, **_k):
+        self.daemon = True
+
+    def start(self):
+        pass
+
+    def cancel(self):
+        pass
+
+    def join(self):
+        pass
+
+
+@pytest.mark.parametrize("deaf", [False, True])
+def test_a_solve_gives_up_at_its_deadline_even_without_the_interrupt(deaf, monkeypatch):
+    from worker.models import search
+    if deaf:
+        monkeypatch.setattr(search.threading, "Timer", _DeafTimer)
+    sat = _Sat("minisat22")
+    sat.add_all(_pigeonhole(10))
+    try:
+        assert sat.solve([], time.monotonic() + 0.3) is None     # not settled: gave up
+    finally:
+        sat.delete()

@@ -54,16 +54,28 @@ class _Sat:
         if left == float("inf"):
             return s.solve(assumptions=assumptions)
         if self.name in _INTERRUPTIBLE:
+            # the timer interrupts the solver at the deadline; the conflict
+            # budget brings control back now and then all the same, so that a
+            # timer that never fires (its thread failing near a memory cap)
+            # cannot leave the search running past its deadline, deaf to
+            # every signal while inside the solver
             timer = threading.Timer(left, s.interrupt)
             timer.daemon = True
             timer.start()
             try:
-                r = s.solve_limited(assumptions=assumptions, expect_interrupt=True)
+                budget = 5_000
+                while True:
+                    s.conf_budget(budget)
+                    r = s.solve_limited(assumptions=assumptions, expect_interrupt=True)
+                    if r is not None:
+                        return r
+                    if time.monotonic() >= deadline:
+                        return None
+                    budget = min(budget * 2, 200_000)
             finally:
                 timer.cancel()
                 timer.join()
                 s.clear_interrupt()     # a late interrupt must not stop the next call
-            return r
         budget = 500
         while True:
             s.conf_budget(budget)
