@@ -7,6 +7,7 @@ saturation engine").
 
 from __future__ import annotations
 
+import gc
 import time
 from dataclasses import replace
 
@@ -184,16 +185,29 @@ def run_strategy(cp, strat: S.Strategy, deadline: float, *, equality: str = "bui
     cpu = None
     if cpu_deadline is not None:
         cpu = max(0.0, cpu_deadline - time.process_time())
-    sat = Saturation(inputs, strat, kbo, eq_builtin=(equality != "axioms"),
-                     deadline=deadline, cpu_limit=cpu, memory_mb=memory_mb,
-                     max_clauses=max_clauses)
-    r = sat.run()
+    # The cyclic garbage collector stays off while the loop runs: the loop
+    # makes no reference cycles worth collecting (clauses point to their
+    # parents, indexes to clauses), while a collection over millions of live
+    # terms stalls it for a tenth of a second at a time, past its limit checks.
+    # It comes back on once the run's structures are freed (by reference
+    # counting), so that it has only the survivors to look at.
+    collecting = gc.isenabled()
+    gc.disable()
+    try:
+        sat = Saturation(inputs, strat, kbo, eq_builtin=(equality != "axioms"),
+                         deadline=deadline, cpu_limit=cpu, memory_mb=memory_mb,
+                         max_clauses=max_clauses)
+        r = sat.run()
+        proof = extract(r["empty"], cp) if r["outcome"] == "refutation" else None
+        r["empty"] = None
+        del sat
+    finally:
+        if collecting:
+            gc.enable()
     out = {"outcome": r["outcome"], "strategy": strat.name, "figures": r["figures"],
-           "reason": r["reason"], "limit": r["limit"], "proof": None, "model": None,
+           "reason": r["reason"], "limit": r["limit"], "proof": proof, "model": None,
            "complete": False}
-    if r["outcome"] == "refutation":
-        out["proof"] = extract(r["empty"], cp)
-    elif r["outcome"] == "saturated":
+    if r["outcome"] == "saturated":
         out["complete"] = strat.complete
         if not strat.complete:
             out["reason"] = (f"saturated under strategy {strat.name}, which is incomplete "

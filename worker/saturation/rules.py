@@ -246,24 +246,26 @@ def _search(table, s: dict, used: list):
     list of ``(d_index, matcher)``): one matcher per row, pairwise
     compatible, each on a different unused ``d_index``."""
     order = sorted(range(len(table)), key=lambda k: len(table[k]))
+    return _go(table, order, used, 0, s)
 
-    def go(k, s):
-        if k == len(order):
-            return s
-        for j, m in table[order[k]]:
-            if used[j]:
-                continue
-            s2 = _merge(s, m)
-            if s2 is None:
-                continue
-            used[j] = True
-            r = go(k + 1, s2)
-            used[j] = False
-            if r is not None:
-                return r
-        return None
 
-    return go(0, s)
+def _go(table, order, used, k, s):
+    # module level, not a closure calling itself (a reference cycle that only
+    # the cyclic garbage collector frees; subsumption runs for every new clause)
+    if k == len(order):
+        return s
+    for j, m in table[order[k]]:
+        if used[j]:
+            continue
+        s2 = _merge(s, m)
+        if s2 is None:
+            continue
+        used[j] = True
+        r = _go(table, order, used, k + 1, s2)
+        used[j] = False
+        if r is not None:
+            return r
+    return None
 
 
 def subsumes(c_lits, d_lits, eq_builtin: bool = True, first: int = 0):

@@ -182,19 +182,22 @@ def normalize_vars(terms: list | tuple, start: int = 0) -> tuple[list, dict]:
     """Rename the variables of ``terms`` to ``start, start+1, ...`` in order of
     first occurrence (left to right).  Returns the renamed terms and the map."""
     mapping: dict[int, int] = {}
+    return [_renumber(t, mapping, start) for t in terms], mapping
 
-    def walk(t):
-        tt = type(t)
-        if tt is int:
-            v = mapping.get(t)
-            if v is None:
-                v = mapping[t] = start + len(mapping)
-            return v
-        if tt is str:
-            return t
-        return (t[0], *[walk(a) for a in t[1:]])
 
-    return [walk(t) for t in terms], mapping
+def _renumber(t, mapping: dict, start: int):
+    # a module-level function, not a closure calling itself: such a closure
+    # is a reference cycle (function <-> cell) that only the cyclic garbage
+    # collector frees, and the engine renumbers every clause it makes
+    tt = type(t)
+    if tt is int:
+        v = mapping.get(t)
+        if v is None:
+            v = mapping[t] = start + len(mapping)
+        return v
+    if tt is str:
+        return t
+    return (t[0], *[_renumber(a, mapping, start) for a in t[1:]])
 
 
 # ---------------------------------------------------------------- JSON form
