@@ -170,4 +170,21 @@ def format_proof(proof: dict) -> str:
         lines.append(f"  {st['id']:>{width}}. {text}    [{describe_step(st)}]")
     if proof.get("axioms_used"):
         lines.append("  axioms used: " + ", ".join(proof["axioms_used"]))
+    notes = _notation(steps)
+    for k, note in enumerate(notes):
+        lines.append(("  notation: " if k == 0 else "            ") + note)
     return "\n".join(lines)
+
+
+def _notation(steps) -> list:
+    """One-line explanations of the notation the steps use, for a reader who
+    meets it for the first time."""
+    out = []
+    if any(st["rule"] not in ("input", "finite_domain") for st in steps):
+        out.append("X0, X1, ... stand for any terms (each clause says: for all X0, X1, ...)")
+    if any(st.get("subst") for st in steps):
+        out.append("X0@5 := t: variable X0 of step 5 is replaced by t")
+    if any(st.get("position") for st in steps):
+        out.append("a position lists argument numbers from the top of the literal, "
+                   "counted from 1 (2.1: the first argument of its second side)")
+    return out
