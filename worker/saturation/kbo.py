@@ -140,6 +140,11 @@ class KBO:
             return True
         if ws < wt:
             return False
+        return self._lex_gt(s, t, ts, tt)
+
+    def _lex_gt(self, s, t, ts, tt) -> bool:
+        """The rest of ``s > t`` once the weights are equal and the variables
+        balance: the heads by precedence, then the first differing arguments."""
         f = s if ts is str else s[0]
         g = t if tt is str else t[0]
         if f != g:
@@ -159,16 +164,7 @@ class KBO:
         tt = type(t)
         if ts is int or tt is int or s == t:
             return self.gt(s, t)
-        f = s if ts is str else s[0]
-        g = t if tt is str else t[0]
-        if f != g:
-            return self._prec_gt(f, g)
-        if ts is str:
-            return False
-        for a, b in zip(s[1:], t[1:]):
-            if a != b:
-                return self.gt(a, b)
-        return False
+        return self._lex_gt(s, t, ts, tt)
 
     def compare(self, s, t):
         """GT, LT, EQUAL or INCOMPARABLE."""
