@@ -7,9 +7,9 @@ disagree.  Pages work without JavaScript; ``static/console.js`` only adds
 live updates and small conveniences.
 
 Security: the session cookie (Flask's signed cookie, HTTP-only, SameSite=Lax,
-Secure on HTTPS and on localhost) holds the SHA-256 of the API token, never
-the token; the token's owner is looked up again on every request, so a
-revoked token signs the session out at once.  Every POST carries the
+Secure exactly when the request came over HTTPS) holds the SHA-256 of the
+API token, never the token; the token's owner is looked up again on every
+request, so a revoked token signs the session out at once.  Every POST carries the
 session's CSRF token.  Someone else's batch, job or run is answered 404.
 """
 
@@ -55,7 +55,7 @@ def svc():
 
 class ConsoleSessions(SecureCookieSessionInterface):
     """Flask's signed cookie session with the key read (or made once) from
-    Redis when the app has none, and Secure set on HTTPS and on localhost."""
+    Redis when the app has none, and Secure set exactly on HTTPS requests."""
 
     def get_signing_serializer(self, app):
         if not app.secret_key:
@@ -71,9 +71,14 @@ class ConsoleSessions(SecureCookieSessionInterface):
             return True
         if mode in ("0", "false", "never", "no"):
             return False
+        # auto: Secure exactly when this request is HTTPS.  A Secure cookie on
+        # plain http (even to 127.0.0.1, the address `nightjar serve` prints)
+        # is stored but never sent back by some clients, so sign-in would not
+        # stick.  The app trusts no X-Forwarded-Proto (no proxy fix, waitress
+        # without trusted proxies): behind a TLS-terminating proxy set
+        # NIGHTJAR_COOKIE_SECURE=always (deploy/GUIDE.md).
         try:
-            host = (request.host or "").rsplit(":", 1)[0].strip("[]")
-            return request.is_secure or host in ("localhost", "127.0.0.1", "::1")
+            return request.is_secure
         except RuntimeError:
             return True
 
@@ -1079,8 +1084,14 @@ def run_live(rid):
 @signed_in
 def compare():
     a, b = request.args.get("a"), request.args.get("b")
+    suite = request.args.get("suite")
+    if not a and not b and suite:       # as the API: the suite's last two runs
+        pair = C.last_two(_corpus(), g.owner, suite)
+        if pair is None:
+            abort(404, f"suite {suite!r} has fewer than two runs; a comparison needs two")
+        a, b = pair
     if not a or not b:
-        raise Bad("give two runs to compare: ?a=RUN&b=RUN")
+        raise Bad("give two runs to compare: ?a=RUN&b=RUN, or ?suite=NAME")
     threshold = _float_arg("threshold")
     ra, rb = _run_or_404(a), _run_or_404(b)
     store, corpus = svc().store, _corpus()
