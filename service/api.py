@@ -103,6 +103,38 @@ def _with_axioms(axioms: dict, name: str, text: str) -> dict:
     return {"main": name, "files": files, "language": None}
 
 
+AXIOMS_PROBE = ".nightjar-axioms.nj"   # the name of the probe below; never a user file
+
+
+def refuse_axiom_conjectures(axioms: dict) -> None:
+    """An InputError at the first conjecture in the axiom files of an
+    axioms-plus-conjectures submission: every conjecture there would become
+    a job of each conjecture file, attributed to the wrong file.  The axiom
+    files are read the way the jobs read them (through an include), from a
+    probe file that includes every axiom main."""
+    from worker.syntax import bundle_reader, load_problem
+    from worker.syntax.errors import InputError, Span
+
+    mains = axioms["main"] if isinstance(axioms["main"], list) else [axioms["main"]]
+    files = dict(axioms["files"])
+    files[AXIOMS_PROBE] = "".join(f'include "{m}"\n' for m in mains)
+    try:
+        problem = load_problem(AXIOMS_PROBE, bundle_reader(files))
+    except InputError as e:
+        if e.span is not None and e.span.file == AXIOMS_PROBE:
+            return        # e.g. only empty axiom files: the jobs' own reading decides
+        raise
+    for st in problem.statements:
+        if st.is_conjecture and st.span is not None:
+            lines = (axioms["files"].get(st.span.file) or "").split("\n")
+            text = lines[st.span.line - 1] if 0 < st.span.line <= len(lines) else None
+            raise InputError(
+                f"the axioms hold a conjecture ('{st.name}'); with conjecture files, "
+                f"the axiom files may hold axioms and hypotheses only",
+                Span(st.span.file, st.span.line, st.span.col), text,
+                "move it into a conjecture file of its own, or make it an axiom")
+
+
 def check_problem(bundle: dict) -> list:
     """Read and clausify; returns the obligations.  Raises InputError."""
     from worker.clausify import clausify
@@ -212,6 +244,7 @@ def accept_submission(s, owner: str, body) -> dict:
                     and isinstance(c.get("text"), str) and c["name"]):
                 raise BadRequest("bad_request", f"conjectures[{i}] must have a name and a text")
             bundles.append(_with_axioms(axioms, c["name"], c["text"]))
+        refuse_axiom_conjectures(axioms)
         queue_name = QUEUE_BATCH
     else:
         raise BadRequest("bad_request", "give 'problem', 'problems', or 'axioms' with "

@@ -295,3 +295,41 @@ def test_a_named_strategy_reaches_the_engine(env):
     env.run_all()
     fig = env.client.get(f"/api/jobs/{body['jobs'][0]['id']}/figures", headers=env.h).get_json()
     assert fig["figures"]["asked"] == name
+
+
+@pytest.mark.parametrize("ax_files, main, where", [
+    ({"ax.nj": "axiom a1: p(c)\n\n  conjecture stray: p(c)\nconjecture other: q\n"},
+     "ax.nj", ("ax.nj", 3, 3)),
+    # in a file the axioms include, and in TPTP
+    ({"ax.nj": 'include "lib/more.p"\naxiom a1: p(c)\n',
+      "lib/more.p": "fof(b, axiom, q).\nfof(stray, conjecture, q).\n"},
+     "ax.nj", ("lib/more.p", 2, 1)),
+    # the second of two axiom mains
+    ({"a.nj": "axiom a1: p(c)\n", "b.nj": "axiom b1: q\nconjecture stray: q\n"},
+     ["a.nj", "b.nj"], ("b.nj", 2, 1)),
+])
+def test_conjectures_in_the_axioms_are_refused_and_nothing_is_kept(env, ax_files, main,
+                                                                     where):
+    env.client.get("/api/batches", headers=env.h)   # whatever a first request sets up
+    before = set(env.r.keys("*"))
+    r = env.post({"axioms": {"main": main, "files": ax_files},
+                  "conjectures": [{"name": "c1.nj", "text": "conjecture g: q(c)\n"}]})
+    assert r.status_code == 400, r.get_json()
+    err = r.get_json()["error"]
+    assert err["code"] == "input_error"
+    assert (err["file"], err["line"], err["col"]) == where
+    assert err["text"].startswith(f"{where[0]}:{where[1]}:{where[2]}: error: the axioms "
+                                  f"hold a conjecture ('stray')")
+    assert "stray" in err["text"].splitlines()[1]          # the line itself, then a caret
+    assert set(env.r.keys("*")) == before
+    assert Queue(QUEUE_BATCH, connection=env.r).count == 0
+
+
+def test_a_conjecture_files_own_include_may_hold_conjectures(env):
+    """Only the axiom text is refused; a conjecture file's includes are its own."""
+    r = env.post({"axioms": {"main": "ax.nj", "files": {
+        "ax.nj": "axiom a1: p(c)\n", "more.nj": "conjecture h: p(c)\n"}},
+        "conjectures": [{"name": "c1.nj", "text": 'include "more.nj"\nconjecture g: p(c)\n'}]})
+    assert r.status_code == 202, r.get_json()
+    assert sorted((j["file"], j["conjecture"]) for j in r.get_json()["jobs"]) == [
+        ("c1.nj", "g"), ("c1.nj", "h")]
