@@ -340,3 +340,68 @@ def test_one_argument_list_reader_serves_both_languages():
         assert issubclass(cls, TokenCursor)
         assert cls.next_argument is TokenCursor.next_argument
         assert "next_argument" not in vars(cls)
+
+
+# --------------------------------- what does not print is not echoed raw
+
+UNPRINTABLE = [chr(c) for c in range(0x20) if c != 9] + ["\x7f"] + \
+    [chr(c) for c in range(0x80, 0xA0)] + ["\u202a", "\u202e", "\u2066", "\u2069",
+                                          "\u200b", "\u2028", "\ufeff", "\ud800"]
+
+
+def raw_free(text: str) -> bool:
+    return not any(ch in text for ch in UNPRINTABLE if ch != "\n")
+
+
+@pytest.mark.parametrize("text,words,col", [
+    ("axiom a: \x1b[31mRED", "unknown character '\u241b' (U+001B)", 10),
+    ("axiom a: p \x9b2J", "unknown character '?' (U+009B)", 12),
+    ("axiom a: p \u202e and q", "unknown character '?' (U+202E)", 12),
+    ("axiom a: p \u2066 q", "unknown character '?' (U+2066)", 12),
+    ("axiom a: \x7f", "unknown character '\u2421' (U+007F)", 10),
+    ("axiom a:\tp('\x1b[2J\x07'\t\t@)", "unknown character '@'", 21),
+    ("axiom a: p('x\x1b]0;pwned\x07') and\r\n", "missing operand", 30),
+])
+def test_control_characters_are_shown_as_stand_ins(text, words, col):
+    e = error_of(text)
+    shown = e.render()
+    assert words in shown and raw_free(shown), repr(shown)
+    assert caret_col(e) == col == e.span.col
+    line = shown.splitlines()[1][4:]
+    assert len(line) == len(text.split("\n")[0].rstrip("\r"))   # one column each
+    assert raw_free(e.to_json()["text"]) and raw_free(e.to_json()["message"])
+
+
+def test_quoted_names_in_messages_are_shown_as_stand_ins():
+    e = error_of("axiom a: 'r\x1b[8m\u202e'(a) and 'r\x1b[8m\u202e'(a, b)")
+    assert "'r\x1b[8m\u202e' is used here" in e.message     # the data is kept
+    shown = e.render()
+    assert "'r\u241b[8m?' is used here" in shown and raw_free(shown)
+    e = error_of("fof('n\x1b[1m', axiom, p).\nfof('n\x1b[1m', axiom, q).", name="x.p")
+    assert "duplicate statement name 'n\u241b[1m'" in e.render()
+    assert raw_free(e.render())
+
+
+def test_every_unprintable_character_renders_visibly():
+    for ch in UNPRINTABLE:
+        if ch in "\n\r\t\x0b\x0c":
+            continue
+        for text, name in ((f"axiom a: p {ch} q", "x.nj"), (f"fof(a, axiom, {ch}).", "x.p")):
+            try:
+                parse_text(text, name=name)
+            except InputError as e:
+                shown = e.render()
+                assert raw_free(shown), (ch, shown)
+                assert caret_col(e) == e.span.col
+            else:
+                assert ch == "\ufeff"   # nothing else is read
+
+
+def test_a_file_name_with_control_characters_is_shown_visibly(tmp_path):
+    f = tmp_path / "evil\x1b[2J.nj"
+    f.write_text("axiom a: p @\n")
+    with pytest.raises(InputError) as e:
+        load_problem(str(f))
+    assert e.value.span.file == str(f)
+    assert "evil\u241b[2J.nj:1:12: error:" in e.value.render()
+    assert raw_free(e.value.render())

@@ -9,8 +9,9 @@ from hypothesis import given, settings, strategies as st
 from worker.syntax import (FALSE, TRUE, And, Atom, Iff, Implies, Not, Or, Quant,
                            Statement, load_problem, parse_text)
 from worker.syntax.formulas import Problem
-from worker.syntax.printer import (format_formula, format_problem, format_statement,
-                                   format_term, is_identifier, quote_name)
+from worker.syntax.printer import (format_clause, format_formula, format_problem,
+                                   format_statement, format_term, is_identifier,
+                                   quote_name)
 
 DATA = Path(__file__).parent / "data" / "syntax"
 
@@ -83,7 +84,8 @@ def test_identifiers_and_quotes():
 # --------------------------------------------------- random formulas
 
 PREDS = {"p": 0, "q": 1, "r": 2, "x": 1}        # 'x' also a variable name below
-FUNS = {"c": 0, "y": 0, "f": 1, "g": 2, "+": 2, "*": 2, "0": 0, "a b": 1}
+FUNS = {"c": 0, "y": 0, "f": 1, "g": 2, "+": 2, "*": 2, "0": 0, "a b": 1,
+        "e\x1b[2J\u202e\t\x7f\x9b\\'": 1}   # controls, bidi, tab, DEL, C1, escapes
 VARNAMES = ["x", "y", "z", "f", "X"]
 
 
@@ -171,7 +173,7 @@ def statements(draw):
     counter = [0, {}]
     f = draw(formulas([], 4, counter))
     role = draw(st.sampled_from(["axiom", "hypothesis", "conjecture"]))
-    name = draw(st.sampled_from(["a1", "goal", "two words", "7"]))
+    name = draw(st.sampled_from(["a1", "goal", "two words", "7", "n\x1b]0;x\x07"]))
     return Statement(name, role, f, counter[1])
 
 
@@ -211,3 +213,41 @@ def test_clause_printing_quotes_constants_spelled_like_its_variables():
     lits = ((True, ("p", 0, "X0", "a")), (False, ("=", 1, "X1")), (False, "q"))
     assert format_clause(lits) == "p(X0, 'X0', a) or X1 != 'X1' or not q"
     assert format_clause(()) == "false"
+
+
+RAW = ["\x1b", "\x07", "\x00", "\t", "\n", "\r", "\x7f", "\x9b", "\u202e", "\u2066",
+       "\u2028", "\ud800"]
+
+
+def test_names_with_control_characters_print_escaped_and_read_back():
+    """A quoted name may carry an escape sequence or a bidi override (from a
+    TPTP file, say); printed proofs, models and problems show it as
+    \\u{HEX}, never raw, and the native reader reads that back."""
+    nasty = "red\x1b[31m\u202egnp.exe\x7f\x9b\x00\tx\ud800"
+    assert quote_name(nasty) == ("'red\\u{1B}[31m\\u{202E}gnp.exe\\u{7F}\\u{9B}"
+                                 "\\u{0}\\u{9}x\\u{D800}'")
+    for name in [nasty] + RAW + ["a\\u{1B}b", "it's\n"]:
+        for text in (format_term(("f", name)), format_clause(((False, (name, 0)),)),
+                     format_statement(Statement(name, "axiom", Atom((name, name)), {}))):
+            assert not any(ch in text for ch in RAW), repr(text)
+        back = parse_text(format_statement(Statement(name, "axiom", Atom(("p", name)),
+                                                     {}))).statements[0]
+        assert back.name == name and back.formula == Atom(("p", name))
+    # from TPTP (where the quoted name holds the raw characters) to native and back
+    p = parse_text("fof('a\x1b[0m', axiom, 'p\u202eq'('c\x07')).", name="x.p")
+    text = roundtrip(p)
+    assert "'a\\u{1B}[0m'" in text and "'p\\u{202E}q'('c\\u{7}')" in text
+    assert not any(ch in text for ch in RAW if ch != "\n")
+
+
+def test_a_malformed_character_escape_is_an_input_error_at_the_escape():
+    from worker.syntax import InputError
+    for bad in ("'a\\u{}'", "'a\\u{110000}'", "'a\\u{12'", "'a\\u{zz}'"):
+        try:
+            parse_text(f"axiom s: p({bad})")
+        except InputError as e:
+            assert "\\u{HEX}" in e.message and (e.span.line, e.span.col) == (1, 14)
+        else:
+            raise AssertionError(bad)
+    # a backslash before other letters still just drops the backslash
+    assert parse_text("axiom s: p('\\u\\x')").statements[0].formula == Atom(("p", "ux"))

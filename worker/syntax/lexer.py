@@ -181,6 +181,40 @@ def unquote(s: str) -> str:
     return "".join(out)
 
 
+_CODE_POINT = re.compile(r"\{([0-9A-Fa-f]{1,6})\}")
+
+
+def unquote_native(s: str) -> str:
+    """The content of a native quoted name or string: ``\\\\``, ``\\'``,
+    ``\\"`` and ``\\u{HEX}`` (the character with that code point, how the
+    printer writes characters that do not print).  A malformed ``\\u{`` is a
+    ``ValueError(offset in s, message)``."""
+    body = s[1:-1]
+    if "\\" not in body:
+        return body
+    out = []
+    i = 0
+    n = len(body)
+    while i < n:
+        c = body[i]
+        if c == "\\" and i + 1 < n:
+            d = body[i + 1]
+            if d == "u" and body.startswith("{", i + 2):
+                m = _CODE_POINT.match(body, i + 2)
+                if m is None or int(m.group(1), 16) > 0x10FFFF:
+                    raise ValueError(i + 1, "a character escape is written \\u{HEX}, "
+                                     "1 to 6 hexadecimal digits up to 10FFFF")
+                out.append(chr(int(m.group(1), 16)))
+                i = m.end()
+                continue
+            out.append(d)
+            i += 2
+        else:
+            out.append(c)
+            i += 1
+    return "".join(out)
+
+
 # -------------------------------------------------------------- TPTP tokens
 
 _TPTP_RE = re.compile(r"""

@@ -27,7 +27,7 @@ from .cursor import TokenCursor
 from .errors import LimitError
 from .formulas import FALSE, TRUE, And, Atom, Iff, Implies, Not, Or, Quant, Statement
 from .lexer import (MAX_DEPTH, STATEMENT_KEYWORDS, Source, describe,
-                    tokenize_native, unquote)
+                    tokenize_native, unquote_native)
 from .terms import intern
 
 _STARTS = frozenset({"name", "num", "quoted", "(", "not", "forall", "exists",
@@ -70,6 +70,14 @@ class NativeParser(TokenCursor):
         i = self.i if i is None else i
         return describe(self.k[i], self.t[i])
 
+    def unquote(self, i) -> str:
+        """The content of the quoted name or string at token ``i``."""
+        try:
+            return unquote_native(self.t[i])
+        except ValueError as e:
+            at, msg = e.args
+            raise self.src.error(msg, self.o[i] + at) from None
+
     def unbalanced(self) -> str:
         """Prefix for a missing ')' when the text ends (or a statement starts)
         before it."""
@@ -110,7 +118,7 @@ class NativeParser(TokenCursor):
         if self.k[self.i] != "string":
             raise self.err(f"expected a file name in double quotes after 'include', "
                            f"found {self.found()}", hint='write include "file.nj"')
-        path = unquote(self.t[self.i])
+        path = self.unquote(self.i)
         at = self.i
         self.i += 1
         self.includes += 1
@@ -123,7 +131,7 @@ class NativeParser(TokenCursor):
         if kind in ("name", "num"):
             name = self.t[self.i]
         elif kind == "quoted":
-            name = unquote(self.t[self.i])
+            name = self.unquote(self.i)
         elif self.t[self.i] in _RESERVED_NAMES:
             raise self.err(f"'{self.t[self.i]}' is a reserved word and cannot name a "
                            f"statement", hint=f"write {self.t[role_i]} NAME: FORMULA")
@@ -295,7 +303,7 @@ class NativeParser(TokenCursor):
         i = self.i
         kind = self.k[i]
         if kind == "name" or kind == "quoted":
-            name = self.t[i] if kind == "name" else unquote(self.t[i])
+            name = self.t[i] if kind == "name" else self.unquote(i)
             self.i += 1
             v = self.scope.get(name) if kind == "name" else None
             if self.k[self.i] == "(":

@@ -42,8 +42,21 @@ def is_identifier(name: str) -> bool:
     return _IDENT.fullmatch(name) is not None and name not in RESERVED
 
 
+def _escape(ch: str) -> str:
+    if ch == "\\" or ch == "'":
+        return "\\" + ch
+    if ch.isprintable():
+        return ch
+    return f"\\u{{{ord(ch):X}}}"   # a control or other non-printing character
+
+
 def quote_name(name: str) -> str:
-    return "'" + name.replace("\\", "\\\\").replace("'", "\\'") + "'"
+    """``name`` in single quotes; ``\\`` and ``'`` escaped, and every character
+    that does not print (controls, tabs, bidi overrides, ...) written as
+    ``\\u{HEX}``, so a printed proof or model never carries them raw."""
+    if name.isprintable():
+        return "'" + name.replace("\\", "\\\\").replace("'", "\\'") + "'"
+    return "'" + "".join(_escape(ch) for ch in name) + "'"
 
 
 def symbol_name(name: str, bound=None, head: bool = False) -> str:
