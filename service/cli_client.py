@@ -308,39 +308,77 @@ def cmd_status(args) -> int:
     return EXIT_OK
 
 
-@_guarded
-def cmd_proof(args) -> int:
+def _proof_or_model(client, jid):
+    """What the API holds for one job: ("proof", proof answer), ("model",
+    model answer), or ("none", proof answer with a "reason" when the API
+    said why there is no model)."""
     from .client import ApiError
-    client = _client(args)
-    p = client.proof(args.id)
+    p = client.proof(jid)
     if p.get("proof"):
-        if args.json:
-            print(json.dumps(p))
-        else:
-            print(p["text"] or json.dumps(p["proof"], indent=1))
-        return EXIT_OK
+        return "proof", p
     try:
-        m = client.model(args.id)
+        m = client.model(jid)
     except ApiError as e:
         if e.code != "no_model":
             raise
         # settled without a model (saturation): nothing to show, say why
-        if args.json:
-            print(json.dumps(dict(p, reason=str(e))))
-        else:
-            print(f"nightjar: {e}", file=sys.stderr)
-        return EXIT_UNDECIDED
+        return "none", dict(p, reason=str(e))
     if m.get("model"):
-        if args.json:
-            print(json.dumps(m))
+        return "model", m
+    return "none", p
+
+
+def _print_proof(kind, answer):
+    if kind == "proof":
+        print(answer["text"] or json.dumps(answer["proof"], indent=1))
+    else:
+        print(f"# no proof: the verdict is {answer['verdict']}; a countermodel:")
+        print(answer["text"] or json.dumps(answer["model"], indent=1))
+
+
+def _batch_proofs(client, bid, as_json) -> int:
+    """Every job's proof or model, in submission order, the jobs paged
+    through the API."""
+    code, first = EXIT_OK, True
+    for j in client.jobs(bid):
+        kind, answer = _proof_or_model(client, j["id"])
+        if kind == "none":
+            code = EXIT_UNDECIDED
+        if as_json:
+            print(json.dumps(dict(answer, file=j["file"], conjecture=j["conjecture"])),
+                  flush=True)
+            continue
+        what = answer.get("verdict") or answer.get("state") or j["state"]
+        if not first:
+            print()
+        first = False
+        print(f"=== {j['file']}  conjecture {j['conjecture'] or '-'}  {what}  "
+              f"(job {j['id']})")
+        if kind == "none":
+            print(f"no proof or model ({what})")
         else:
-            print(f"# no proof: the verdict is {m['verdict']}; a countermodel:")
-            print(m["text"] or json.dumps(m["model"], indent=1))
+            _print_proof(kind, answer)
+    return code
+
+
+@_guarded
+def cmd_proof(args) -> int:
+    client = _client(args)
+    if _is_batch(args.id):
+        return _batch_proofs(client, args.id, args.json)
+    kind, answer = _proof_or_model(client, args.id)
+    if kind != "none":
+        if args.json:
+            print(json.dumps(answer))
+        else:
+            _print_proof(kind, answer)
         return EXIT_OK
     if args.json:
-        print(json.dumps(p))
+        print(json.dumps(answer))
+    elif answer.get("reason"):
+        print(f"nightjar: {answer['reason']}", file=sys.stderr)
     else:
-        what = p["verdict"] or p["state"]
+        what = answer["verdict"] or answer["state"]
         print(f"nightjar: job {args.id} has no proof or model ({what})", file=sys.stderr)
     return EXIT_UNDECIDED
 
@@ -513,7 +551,8 @@ def register(sub) -> None:
     p.set_defaults(func=cmd_submit)
 
     for name, fn, helptext in (("status", cmd_status, "show a job or a batch"),
-                               ("proof", cmd_proof, "show a job's proof (or countermodel)"),
+                               ("proof", cmd_proof, "show the proof (or countermodel) of a job, or of "
+                                         "every job of a batch"),
                                ("cancel", cmd_cancel, "cancel a job or a whole batch")):
         p = sub.add_parser(name, help=helptext)
         p.add_argument("id", metavar="ID", help="a job id (j...) or a batch id (b...)")

@@ -154,3 +154,111 @@ def test_proof_of_a_saturation_verdict_says_why_and_exits_3(json_out, capsys, mo
     else:
         assert err.strip() == ("nightjar: job j9 has no model: its CounterSatisfiable "
                                "verdict came from saturation")
+
+
+# -- the commands against the real API (Flask test client, fakeredis) -----------
+
+def _decide(problem, conjecture, settings=None):
+    """Theorem for names starting with t, a countermodel for m, saturation
+    (CounterSatisfiable without a model) for s, GaveUp otherwise."""
+    kind = (conjecture or "x")[0]
+    status = {"t": "Theorem", "m": "CounterSatisfiable",
+              "s": "CounterSatisfiable"}.get(kind, "GaveUp")
+    proof = ({"steps": [{"id": 0, "clause": [], "rule": "input"}],
+              "conjecture": conjecture, "axioms_used": []} if kind == "t" else None)
+    model = {"size": 1, "functions": {}, "predicates": {}} if kind == "m" else None
+    cert = ({"kind": "proof-replayed", "checked": 1, "detail": ""} if proof else
+            {"kind": "model-evaluated", "checked": 1, "detail": ""} if model else
+            {"kind": "none", "checked": 0, "detail": ""})
+    return {"conjecture": conjecture, "status": status, "seconds": 0.01, "strategy": "fake",
+            "reason": "", "figures": {}, "axioms_used": [], "proof": proof, "model": model,
+            "certificate": cert}
+
+
+@pytest.fixture
+def service(monkeypatch):
+    """A Client whose requests go to the API through Flask's test client; its
+    job listing pages two at a time.  ``run(n)`` works off n queued jobs."""
+    from rq import Queue
+
+    from service.app import create_app
+    from service.config import QUEUE_BATCH, QUEUE_INTERACTIVE, Config
+    from service.store import Store
+    from worker import jobs as worker_jobs
+    monkeypatch.setattr("worker.pipeline.decide", _decide)
+    r = fakeredis.FakeRedis()
+    app = create_app(Config(), r)
+    tok = Store(r).add_token("alice")
+    http = app.test_client()
+
+    class TestClient(Client):
+        def request(self, method, path, body=None, query=None):
+            from service.client import ApiError
+            q = {k: v for k, v in (query or {}).items() if v is not None}
+            resp = http.open(path, method=method, json=body, query_string=q,
+                             headers={"Authorization": f"Bearer {tok}"})
+            if resp.status_code >= 400:
+                raise ApiError(resp.status_code, resp.get_json()["error"])
+            return resp.get_json()
+
+        def jobs(self, bid, state=None, verdict=None, page=2):
+            return super().jobs(bid, state, verdict, page)
+
+    c = TestClient("http://test")
+    monkeypatch.setattr(cli_client, "_client", lambda args: c)
+
+    def run(n=None):
+        for qn in (QUEUE_INTERACTIVE, QUEUE_BATCH):
+            q = Queue(qn, connection=r)
+            for rq_id in q.job_ids:
+                if n is not None and n <= 0:
+                    return
+                worker_jobs.attempt(rq_id.rsplit("-", 1)[0], connection=r)
+                q.remove(rq_id)
+                n = None if n is None else n - 1
+    c.run = run
+    return c
+
+
+def _submit(c, names):
+    """One file per conjecture name, in this order; returns the submission."""
+    return c.submit({"problems": [
+        {"main": f"f{i}.nj", "files": {f"f{i}.nj": f"axiom a: p(c)\nconjecture {n}: p(c)\n"}}
+        for i, n in enumerate(names)]})
+
+
+def test_proof_of_a_batch_shows_every_job_in_order(service, capsys):
+    sub = _submit(service, ["t1", "m1", "s1", "t2", "g1"])
+    service.run()
+    code = cli.main(["proof", sub["batch"]])
+    out = capsys.readouterr().out
+    assert code == 3                                # s1 and g1 have neither
+    heads = [ln for ln in out.splitlines() if ln.startswith("=== ")]
+    ids = [j["id"] for j in sub["jobs"]]
+    assert heads == [
+        f"=== f0.nj  conjecture t1  Theorem  (job {ids[0]})",
+        f"=== f1.nj  conjecture m1  CounterSatisfiable  (job {ids[1]})",
+        f"=== f2.nj  conjecture s1  CounterSatisfiable  (job {ids[2]})",
+        f"=== f3.nj  conjecture t2  Theorem  (job {ids[3]})",
+        f"=== f4.nj  conjecture g1  GaveUp  (job {ids[4]})"]
+    blocks = out.split("=== ")[1:]
+    assert "countermodel" in blocks[1] and "no proof or model" not in blocks[1]
+    assert blocks[2].splitlines()[1] == "no proof or model (CounterSatisfiable)"
+    assert blocks[4].splitlines()[1] == "no proof or model (GaveUp)"
+    assert "no proof or model" not in blocks[0] + blocks[3]
+
+    code = cli.main(["proof", sub["batch"], "--json"])
+    lines = [json.loads(ln) for ln in capsys.readouterr().out.splitlines()]
+    assert code == 3 and [ln["id"] for ln in lines] == ids
+    assert [ln["conjecture"] for ln in lines] == ["t1", "m1", "s1", "t2", "g1"]
+    assert lines[0]["proof"] and lines[1]["model"] and "saturation" in lines[2]["reason"]
+
+
+def test_proof_of_a_batch_exits_0_when_every_job_has_one(service, capsys):
+    sub = _submit(service, ["t1", "m1", "t2"])
+    service.run()
+    assert cli.main(["proof", sub["batch"]]) == 0
+    assert cli.main(["proof", sub["batch"], "--json"]) == 0
+    assert len(capsys.readouterr().out.strip().splitlines()) > 3
+    assert cli.main(["proof", sub["jobs"][1]["id"]]) == 0      # one job: as before
+    assert "countermodel" in capsys.readouterr().out
