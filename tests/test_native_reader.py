@@ -215,3 +215,41 @@ def test_language_told_apart_and_forced():
     with pytest.raises(InputError):
         parse_text("fof(a, axiom, p).", language="native")
     assert parse_text("# only a comment\naxiom a: p", name="x.p").language == "native"
+
+
+# ------------------------------------------------------- byte-order mark
+
+BOM = "\ufeff"
+
+
+def test_a_leading_byte_order_mark_is_not_part_of_the_text(tmp_path):
+    text = "axiom a: p(b)\r\nconjecture c: p(b)\n"
+    (tmp_path / "bom.nj").write_bytes(BOM.encode() + text.encode())
+    (tmp_path / "plain.nj").write_text(text)
+    with_bom = load_problem(str(tmp_path / "bom.nj"))
+    plain = load_problem(str(tmp_path / "plain.nj"))
+    assert [s.formula for s in with_bom.statements] == [s.formula for s in plain.statements]
+    assert with_bom.statements[0].span.col == 1 and with_bom.statements[0].text == "axiom a: p(b)"
+    # the same through a bundle (an uploaded text keeps its mark) and on its own
+    bundle = collect_bundle(str(tmp_path / "bom.nj"))
+    assert not bundle["bom.nj"].startswith(BOM)
+    for p in (load_problem("bom.nj", bundle_reader({"bom.nj": BOM + text})),
+              load_problem("m.nj", bundle_reader({"m.nj": BOM + 'include "i.nj"\n',
+                                                  "i.nj": BOM + text})),
+              parse_text(BOM + text)):
+        assert [s.formula for s in p.statements] == [s.formula for s in plain.statements]
+
+
+def test_columns_of_line_one_count_without_the_byte_order_mark(tmp_path):
+    (tmp_path / "bom.nj").write_bytes(BOM.encode() + b"axiom a: p @ q\n")
+    with pytest.raises(InputError) as e:
+        load_problem(str(tmp_path / "bom.nj"))
+    assert "'@'" in e.value.message and (e.value.span.line, e.value.span.col) == (1, 12)
+    assert e.value.render().splitlines()[1] == "    axiom a: p @ q"
+    (tmp_path / "bad.nj").write_bytes(BOM.encode() + b"axiom a: caf\xe9\n")
+    with pytest.raises(InputError) as e:
+        load_problem(str(tmp_path / "bad.nj"))
+    assert "not UTF-8" in e.value.message and (e.value.span.line, e.value.span.col) == (1, 13)
+    with pytest.raises(InputError) as e:      # only a leading mark is skipped
+        parse_text("axiom a: p and " + BOM + "q")
+    assert "U+FEFF" in e.value.message and e.value.span.col == 16

@@ -200,3 +200,25 @@ def test_random_formulas_through_tptp_and_back_to_native(stmt):
     assert p.statements[0].formula == renumber(stmt.formula), text
     q = parse_text(format_problem(p), language="native")
     assert q.statements[0].formula == p.statements[0].formula
+
+
+def test_a_leading_byte_order_mark_is_skipped_and_the_text_still_decides(tmp_path):
+    from worker.syntax import detect_language
+    text = "\ufeff% comment\nfof(a, axiom, p).\nfof(c, conjecture, p).\n"
+    assert detect_language(text, "upload.nj") == "tptp"
+    p = parse_text(text, name="upload.nj")
+    assert p.language == "tptp" and [s.name for s in p.statements] == ["a", "c"]
+    (tmp_path / "bom.p").write_bytes(text.encode())
+    p = load_problem(str(tmp_path / "bom.p"))
+    assert p.statements[0].span.line == 2 and p.statements[0].span.col == 1
+    with pytest.raises(InputError) as e:
+        parse_text("\ufefffof(a, axiom, p @ q).", name="x.p")
+    assert e.value.span.col == 17 and e.value.render().splitlines()[1] == \
+        "    fof(a, axiom, p @ q)."
+    lib = tmp_path / "lib"
+    lib.mkdir()
+    (lib / "ax.ax").write_bytes(b"\xef\xbb\xbffof(ax, axiom, q).\n")
+    read = bundle_reader({"m.p": "\ufeffinclude('ax.ax').\nfof(c, conjecture, q).\n"},
+                         library=str(lib))
+    p = load_problem("m.p", read, include_root=str(lib))
+    assert [s.name for s in p.statements] == ["ax", "c"]

@@ -26,6 +26,7 @@ from .symbols import SymbolTable
 from .tptp import TptpParser
 
 TPTP_ENDINGS = (".p", ".ax", ".tptp", ".fof", ".cnf")
+BOM = "\ufeff"        # a byte-order mark some editors put first; not part of the text
 
 _SKIP = re.compile(r"(?:\s+|%[^\n]*|#[^\n]*|/\*.*?\*/)*", re.DOTALL)
 _TPTP_START = re.compile(r"(?:fof|cnf|tff|thf|tcf|tpi|tfx|include)\s*\(")
@@ -35,7 +36,7 @@ _NATIVE_START = re.compile(r"(?:axiom|hypothesis|conjecture|negated_conjecture)\
 def detect_language(text: str, name: str = "") -> str:
     """``"native"`` or ``"tptp"``, from the first statement of the text; the
     file ending decides when the text does not (e.g. only comments)."""
-    m = _SKIP.match(text)
+    m = _SKIP.match(text, 1 if text.startswith(BOM) else 0)
     pos = m.end() if m else 0
     if _TPTP_START.match(text, pos):
         return "tptp"
@@ -127,6 +128,8 @@ class Loader:
                        self.main_language)
 
     def parse_file(self, name: str, text: str, top: bool = False) -> list:
+        if text.startswith(BOM):      # every reader's text passes here
+            text = text[1:]
         src = Source(name, text)
         check_size(src)
         self.total += len(text)
@@ -253,6 +256,8 @@ def _read_disk(path: str) -> str:
                          f"{MAX_FILE_CHARS:,} (20 MB) per file")
     with open(path, "rb") as fh:
         data = fh.read()
+    if data.startswith(b"\xef\xbb\xbf"):   # a UTF-8 byte-order mark: not text
+        data = data[3:]
     try:
         return data.decode("utf-8")
     except UnicodeDecodeError as e:
@@ -294,7 +299,8 @@ def bundle_reader(files: dict, library: str | None = None):
     """A ``read`` function over a bundle ``{name: text}`` (as made by
     :func:`collect_bundle`) that never touches the disk, except, when
     ``library`` is given, for files inside that axiom library folder."""
-    table = {_norm(k): v for k, v in files.items()}
+    table = {_norm(k): (v[1:] if isinstance(v, str) and v.startswith(BOM) else v)
+             for k, v in files.items()}
     lib = _norm(library) if library else None
 
     def read(path: str) -> str:
