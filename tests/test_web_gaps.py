@@ -8,6 +8,8 @@ import html
 import io
 import re
 
+import pytest
+
 from service.limits import RateLimiter
 from tests.test_web_pages import GOOD, Console
 from tests.test_web_pages import env  # noqa: F401  (the console over fakeredis)
@@ -187,3 +189,60 @@ def test_kept_files_can_be_replaced_left_out_and_pasted_text_is_kept(env):
     assert inputs(page, "kept_axioms_name") == ["ax.nj"]
     assert textareas(page, "kept_axioms_text") == ["axiom a: forall x. p(x) implies q(x)\n"]
     assert textareas(page, "text") == ["conjecture g: q(c)\n"]
+
+
+# ===================== 5. paging out of range is 400, not "the store is down"
+
+def test_page_numbers_beyond_the_offset_bound_are_400_on_every_paging_page(env):
+    from tests.test_web_pages import submitted_batch
+    e = env
+    e.sign_in(e.alice)
+    bid = submitted_batch(e, GOOD)
+    huge = "99999999999999999999"
+    for path in (f"/batches?page={huge}", f"/batches/live.json?page={huge}",
+                 f"/batches/{bid}?page={huge}", f"/batches/{bid}?per=500&page={huge}",
+                 "/batches?page=20000001", f"/batches/{bid}?per=500&page=2000001"):
+        resp = e.client.get(path)
+        page = resp.get_data(as_text=True)
+        assert resp.status_code == 400, (path, resp.status_code, page[:300])
+        assert "page must be between 1 and" in page, path
+        assert "not answering" not in page
+        assert resp.headers["Content-Type"].startswith("text/html")
+        assert "default-src 'self'" in resp.headers["Content-Security-Policy"]
+    # the last pages within the bound are ordinary (empty) pages
+    assert "signed in as" in e.get("/batches?page=20000000")
+    assert "signed in as" in e.get(f"/batches/{bid}?per=500&page=2000000")
+    assert e.client.get("/batches/live.json?page=20000000").get_json()["batches"] == []
+
+
+def test_an_error_reply_to_a_bad_command_is_not_reported_as_the_store_down(env, monkeypatch):
+    import redis
+
+    e = env
+    e.sign_in(e.alice)
+    store = e.app.extensions["nightjar"].store
+
+    def bad_range(owner, offset=0, limit=50):        # a real error reply from the store
+        return store.r.execute_command("ZREVRANGE", store.k_owner_batches(owner),
+                                       "not-a-number", 1)
+
+    monkeypatch.setattr(store, "owner_batches", bad_range)
+    with pytest.raises(redis.ResponseError):
+        bad_range("alice")
+    resp = e.client.get("/batches")
+    page = resp.get_data(as_text=True)
+    assert resp.status_code == 500, page[:300]
+    assert "not answering" not in page and "fault in the console" in page
+    assert "Traceback" not in page
+
+    # error replies about the server's state are still "not answering" (503)
+    for err in (redis.exceptions.OutOfMemoryError("command not allowed when used memory > 'maxmemory'"),
+                redis.exceptions.ReadOnlyError("You can't write against a read only replica."),
+                redis.ResponseError("MISCONF Redis is configured to save RDB snapshots"),
+                redis.ConnectionError("Connection refused")):
+        def trouble(*a, err=err, **kw):
+            raise err
+        monkeypatch.setattr(store, "owner_batches", trouble)
+        resp = e.client.get("/batches")
+        assert resp.status_code == 503, (err, resp.status_code)
+        assert "not answering" in resp.get_data(as_text=True)

@@ -204,7 +204,7 @@ def _safe_next(nxt: str | None) -> str:
 
 TITLES = {400: "That request is not understood", 401: "Sign in first",
           403: "Not allowed", 404: "Not found", 405: "Not allowed here",
-          413: "Too large", 429: "Too many requests",
+          413: "Too large", 429: "Too many requests", 500: "Something went wrong here",
           503: "The store is not answering"}
 
 
@@ -226,8 +226,33 @@ def _http(e):
     return error_page(e.code or 500, e.description or e.name)
 
 
+# Error replies that mean the store cannot serve just now (full, a read-only
+# replica, loading, a disk write failing, busy, a cluster moving); any other
+# error reply answers a command the console got wrong, which is a bug here.
+_STORE_TROUBLE = (redis.exceptions.OutOfMemoryError, redis.exceptions.ReadOnlyError,
+                  redis.exceptions.ClusterDownError, redis.exceptions.TryAgainError)
+_TROUBLE_PREFIXES = ("MISCONF", "BUSY", "MASTERDOWN", "LOADING", "OOM", "READONLY",
+                     "TRYAGAIN", "CLUSTERDOWN")
+
+
+def store_is_down(e: redis.RedisError) -> bool:
+    """Whether ``e`` says the store is unavailable (connection, timeout, or an
+    error reply about the server's state) rather than refusing a bad command."""
+    if not isinstance(e, redis.exceptions.ResponseError):
+        return True
+    if isinstance(e, _STORE_TROUBLE):
+        return True
+    return str(e).lstrip().upper().startswith(_TROUBLE_PREFIXES)
+
+
 @bp.errorhandler(redis.RedisError)
 def _redis_down(e):
+    if not store_is_down(e):
+        current_app.logger.error("the store refused a console command: %s", e,
+                                 exc_info=e)
+        return error_page(500, "the store refused a request this page made; that is "
+                               "a fault in the console, not in the store "
+                               f"({type(e).__name__})")
     return error_page(503, f"the store is not answering ({type(e).__name__}); "
                            f"try again in a moment")
 
@@ -250,9 +275,16 @@ def _int_arg(name, default, lo=0, hi=None):
     except ValueError:
         raise Bad(f"{name} must be a whole number, not {v[:40]!r}")
     if n < lo or (hi is not None and n > hi):
-        raise Bad(f"{name} must be between {lo} and {hi}" if hi is not None
-                  else f"{name} must be at least {lo}")
+        raise Bad(f"{name} must be between {lo:,} and {hi:,}" if hi is not None
+                  else f"{name} must be at least {lo:,}")
     return n
+
+
+def _page_arg(per: int) -> int:
+    """``?page=``, from 1 up to where the offset reaches the API's bound on
+    offsets (``limits.MAX_PAGE_NUMBER``): beyond that is 400, never an offset
+    Redis cannot read."""
+    return _int_arg("page", 1, lo=1, hi=L.MAX_PAGE_NUMBER // per)
 
 
 def _float_arg(name):
@@ -361,7 +393,7 @@ def _signature(*parts) -> str:
 @bp.get("/batches")
 @signed_in
 def batches():
-    page = _int_arg("page", 1, lo=1)
+    page = _page_arg(BATCHES_PER_PAGE)
     store = svc().store
     ids = store.owner_batches(g.owner, (page - 1) * BATCHES_PER_PAGE, BATCHES_PER_PAGE + 1)
     more = len(ids) > BATCHES_PER_PAGE
@@ -376,7 +408,7 @@ def batches():
 @bp.get("/batches/live.json")
 @signed_in
 def batches_live():
-    page = _int_arg("page", 1, lo=1)
+    page = _page_arg(BATCHES_PER_PAGE)
     store = svc().store
     ids = store.owner_batches(g.owner, (page - 1) * BATCHES_PER_PAGE, BATCHES_PER_PAGE)
     rows = [_batch_live(b) for b in (store.get_batch(i) for i in ids) if b]
@@ -509,7 +541,7 @@ def batch(bid):
     per = _int_arg("per", 100)
     if per not in PAGE_SIZES:
         raise Bad(f"per must be one of {', '.join(map(str, PAGE_SIZES))}")
-    page = _int_arg("page", 1, lo=1)
+    page = _page_arg(per)
 
     rows = light_rows(bid)
     chosen = [r for r in rows
