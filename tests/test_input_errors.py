@@ -321,6 +321,19 @@ def test_quantifier_slips_get_a_hint(text, hint):
      "'f' (opened at line 1, column 18), found the name 'c'", 1, 24),
     ("fof(a, axiom, p(a,\n  b", "x.p", "unbalanced brackets: expected ',' or ')' in "
      "the arguments of 'p' (opened at line 1, column 16), found", 2, 4),
+    # a gap in the list: the message names the token just before it
+    ("axiom a: p(a,,b)", "x.nj", "missing argument: expected an argument of 'p' after "
+     "the ',' (at line 1, column 13), found ','", 1, 14),
+    ("fof(a, axiom, p(a,,b)).", "x.p", "missing argument: expected an argument of 'p' "
+     "after the ',' (at line 1, column 18), found ','", 1, 19),
+    ("axiom a: p(f(a, ), b)", "x.nj", "expected an argument of 'f' after the ',' (at "
+     "line 1, column 15), found ')'", 1, 17),
+    ("fof(a, axiom, p(f(a, ), b)).", "x.p", "expected an argument of 'f' after the ',' "
+     "(at line 1, column 20), found ')'", 1, 22),
+    ("axiom a: p(,b)", "x.nj", "missing argument: expected an argument of 'p' after "
+     "the '(', found ','", 1, 12),
+    ("fof(a, axiom, p(,b)).", "x.p", "missing argument: expected an argument of 'p' "
+     "after the '(', found ','", 1, 17),
 ])
 def test_argument_list_errors_read_alike_in_both_languages(text, name, words, line, col):
     e = error_of(text, name=name)

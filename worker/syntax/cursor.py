@@ -1,7 +1,8 @@
 """What the native and the TPTP parser share: a position in a token list
 (``k`` kinds, ``t`` texts, ``o`` offsets, ``i`` the current token, ``src``
 the Source), the variable bookkeeping both keep, and the pieces of error
-reporting and argument-list reading that read alike in both languages.
+reporting and argument-list reading that read alike in both languages
+(``missing_argument``, ``next_argument``).
 
 A subclass supplies ``found(i=None)`` (how a token is named in its
 language) and ``unbalanced()`` (the prefix for a missing ')' where its
@@ -34,6 +35,16 @@ class TokenCursor:
     def where(self, i) -> str:
         ln, col = self.src.linecol(self.o[i])
         return f"line {ln}, column {col}"
+
+    def missing_argument(self, name, open_i):
+        """The error when no argument of ``name(...)`` (its '(' at token
+        ``open_i``) starts at the current token: it names the token just
+        before the gap (the '(' or a ','), not the '('."""
+        before = self.i - 1
+        at = "" if before == open_i else f" (at {self.where(before)})"
+        return self.err(f"{self.unbalanced()}missing argument: expected an argument "
+                        f"of '{name}' after the '{self.t[before]}'{at}, found "
+                        f"{self.found()}")
 
     def next_argument(self, name, open_i) -> bool:
         """After an argument of ``name(...)`` (its '(' at token ``open_i``):

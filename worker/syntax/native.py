@@ -359,7 +359,7 @@ class NativeParser(TokenCursor):
         while True:
             a_i = self.i
             if self.k[self.i] not in _STARTS:
-                self.missing(open_i, "an argument")
+                raise self.missing_argument(name, open_i)
             t, td = self.term(self.expr(0), a_i, "arg")
             args.append(t)
             if td > d:

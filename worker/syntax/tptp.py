@@ -31,6 +31,7 @@ TYPED = ("tff", "thf", "tcf", "tpi", "tfx")
 _BINARY = frozenset({"&", "|", "=>", "<=", "<=>", "<~>", "~|", "~&"})
 _NONASSOC = frozenset({"=>", "<=", "<=>", "<~>", "~|", "~&"})
 _NAMEKINDS = ("lower", "quoted", "num")
+_TERM_STARTS = frozenset({"var", "lower", "quoted", "num", "distinct", "dollar"})
 
 
 def _tdescribe(kind, text):
@@ -391,6 +392,8 @@ class TptpParser(TokenCursor):
         args = [name]
         while True:
             a_i = self.i
+            if self.k[a_i] not in _TERM_STARTS:
+                raise self.missing_argument(name, open_i)
             a = self.term()
             self.fun(a, a_i)
             args.append(a)
