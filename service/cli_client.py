@@ -18,6 +18,9 @@ from pathlib import Path
 
 from .config import Config, home_dir
 
+# service.store's STATES, spelt out so the command line starts without redis
+JOB_STATES = ("queued", "running", "done", "failed", "cancelled")
+
 EXIT_OK, EXIT_INPUT, EXIT_USAGE, EXIT_UNDECIDED, EXIT_NO_SERVICE = 0, 1, 2, 3, 4
 
 DEFINITE = {"Theorem", "ContradictoryAxioms", "CounterSatisfiable", "Unsatisfiable",
@@ -265,6 +268,31 @@ def _is_batch(ident: str) -> bool:
     return ident.startswith("b")
 
 
+STATUS_ROWS = 50      # rows of a batch's job table without --all
+
+
+def _status_table(client, b, args) -> None:
+    """The batch's jobs (all of them once it has finished or with --all, else
+    the first STATUS_ROWS) with a line on how to see the rest."""
+    bid, state = b["id"], getattr(args, "state", None)
+    if b["finished"] or getattr(args, "all", False):
+        jobs, total = list(client.jobs(bid, state=state)), None
+    else:
+        page = client.batch_jobs(bid, state=state, limit=STATUS_ROWS)
+        jobs, total = page["jobs"], page["total"]
+    print()
+    if not jobs:
+        print(f"no {state} jobs" if state else "no jobs")
+        return
+    print(verdict_table(jobs))
+    if total is not None and total > len(jobs):
+        more = total - len(jobs)
+        hint = "" if state or not b["states"].get("running") else \
+            f", or only the running ones: nightjar status {bid} --state running"
+        print(f"... {more} more job{'s' if more != 1 else ''}; all of them: "
+              f"nightjar status {bid} --all{hint}")
+
+
 @_guarded
 def cmd_status(args) -> int:
     client = _client(args)
@@ -280,9 +308,7 @@ def cmd_status(args) -> int:
               f"({b['progress'] * 100:.0f}%)")
         print(f"  states:   {st}")
         print(f"  verdicts: {vd}")
-        if b["finished"]:
-            print()
-            print(verdict_table(list(client.jobs(args.id))))
+        _status_table(client, b, args)
         return EXIT_OK
     j = client.job(args.id)
     if args.json:
@@ -556,6 +582,12 @@ def register(sub) -> None:
                                ("cancel", cmd_cancel, "cancel a job or a whole batch")):
         p = sub.add_parser(name, help=helptext)
         p.add_argument("id", metavar="ID", help="a job id (j...) or a batch id (b...)")
+        if name == "status":
+            p.add_argument("--all", action="store_true",
+                           help=f"a batch: every job, not only the first {STATUS_ROWS} "
+                                f"while it runs")
+            p.add_argument("--state", choices=JOB_STATES,
+                           help="a batch: only the jobs in this state")
         _client_opts(p)
         p.set_defaults(func=fn)
 

@@ -205,6 +205,7 @@ def service(monkeypatch):
             return super().jobs(bid, state, verdict, page)
 
     c = TestClient("http://test")
+    c.store = Store(r)
     monkeypatch.setattr(cli_client, "_client", lambda args: c)
 
     def run(n=None):
@@ -262,3 +263,45 @@ def test_proof_of_a_batch_exits_0_when_every_job_has_one(service, capsys):
     assert len(capsys.readouterr().out.strip().splitlines()) > 3
     assert cli.main(["proof", sub["jobs"][1]["id"]]) == 0      # one job: as before
     assert "countermodel" in capsys.readouterr().out
+
+
+def test_cli_job_states_are_the_stores():
+    from service.store import STATES
+    assert cli_client.JOB_STATES == STATES
+
+
+def test_status_of_a_running_batch_shows_its_jobs(service, capsys, monkeypatch):
+    monkeypatch.setattr(cli_client, "STATUS_ROWS", 3)
+    sub = _submit(service, ["t1", "m1", "t2", "t3", "g1"])
+    ids = [j["id"] for j in sub["jobs"]]
+    service.run(2)                                   # two settled, three queued
+    assert cli.main(["status", sub["batch"]]) == 0
+    out = capsys.readouterr().out.splitlines()
+    assert out[0].startswith(f"batch {sub['batch']}: 2/5 settled")
+    table = [ln for ln in out if ln.split() and ln.split()[-1] in ids]
+    assert [ln.split() for ln in table] == [
+        ["f0.nj", "t1", "Theorem", "0.01", ids[0]],
+        ["f1.nj", "m1", "CounterSatisfiable", "0.01", ids[1]],
+        ["f2.nj", "t2", "queued", ids[2]]]
+    assert out[-1] == f"... 2 more jobs; all of them: nightjar status {sub['batch']} --all"
+
+    assert service.store.start_attempt(ids[3], "w1", 60) is not None   # one runs
+    assert cli.main(["status", sub["batch"]]) == 0
+    out = capsys.readouterr().out.splitlines()
+    assert out[-1] == (f"... 2 more jobs; all of them: nightjar status {sub['batch']} "
+                       f"--all, or only the running ones: nightjar status {sub['batch']} "
+                       f"--state running")
+    assert cli.main(["status", sub["batch"], "--state", "running"]) == 0
+    out = capsys.readouterr().out.splitlines()
+    assert [ln.split() for ln in out if ln.split() and ln.split()[-1] in ids] == [
+        ["f3.nj", "t3", "running", ids[3]]]
+
+    assert cli.main(["status", sub["batch"], "--all"]) == 0
+    out = capsys.readouterr().out.splitlines()
+    assert [ln.split()[-1] for ln in out if ln.split() and ln.split()[-1] in ids] == ids
+    assert not out[-1].startswith("...")
+
+    assert cli.main(["status", sub["batch"], "--state", "queued"]) == 0
+    out = capsys.readouterr().out.splitlines()
+    assert [ln.split()[-1] for ln in out if ln.split() and ln.split()[-1] in ids] == [
+        ids[2], ids[4]]
