@@ -77,10 +77,28 @@ def axioms_line(summary: dict, guards: list) -> str:
     return "axioms: consistency unknown (the check found neither a refutation nor a model in its budget)"
 
 
+def checks_note(summary: dict) -> str:
+    """Why a run's batch has more jobs than the run has obligations: each
+    distinct axiom set's consistency check is a job of it too."""
+    n = summary.get("axiom_checks") or 0
+    if not n:
+        return ""
+    return f"plus {n} axiom consistency check{'s' if n != 1 else ''}"
+
+
+def _batch_part(summary: dict) -> str:
+    """``batch b...`` with its job count when the axiom checks add jobs."""
+    note = checks_note(summary)
+    if not note:
+        return f"batch {summary['batch']}"
+    jobs = summary["total"] + summary["axiom_checks"]
+    return f"batch {summary['batch']}: {jobs} jobs, the {summary['total']} obligations {note}"
+
+
 def report_text(view: dict) -> str:
     s, rows = view["summary"], view["rows"]
     out = [f"run {s['run']} of suite {s['suite']}: {s['total']} obligations "
-           f"(batch {s['batch']}{', full rerun' if s.get('full') else ''})",
+           f"({_batch_part(s)}{', full rerun' if s.get('full') else ''})",
            axioms_line(s, view["guards"])]
     w = max([len(r["key"]) for r in rows] + [10])
     out.append("")
@@ -106,11 +124,34 @@ def report_text(view: dict) -> str:
     return "\n".join(out)
 
 
+def axiom_changes_lines(ch: dict | None) -> list:
+    """The axioms added, removed and edited between two runs, by name and file."""
+    if ch is None:
+        return []
+    items = ([("edited", x) for x in ch.get("edited", [])]
+             + [("added", x) for x in ch.get("added", [])]
+             + [("removed", x) for x in ch.get("removed", [])])
+    if not items:
+        return ["axioms changed: none"]
+    n = {k: len(ch.get(k, [])) for k in ("edited", "added", "removed")}
+    out = [f"axioms changed: {n['edited']} edited, {n['added']} added, {n['removed']} removed"]
+    w = max(len(x["name"]) for _, x in items)
+    for what, x in items:
+        where = x.get("file")
+        if what == "edited" and x.get("file_before") and x.get("file_before") != where:
+            where = f"{x['file_before']} -> {where}"
+        elif what == "removed" and where:
+            where = f"was in {where}"
+        out.append(f"  {what:<9} {x['name']:<{w}}" + (f"  ({where})" if where else ""))
+    return out
+
+
 def diff_text(d: dict) -> str:
     out = [f"suite {d['suite']}: run {d['a']} -> run {d['b']}"]
     cons = d["axioms_consistent"]["b"]
     if cons is False:
         out.append("AXIOMS CONTRADICTORY in run " + d["b"] + ": every Theorem of it is vacuous")
+    out.extend(axiom_changes_lines(d.get("axiom_changes")))
     lines = []
     w = max([len(x["key"]) for k in ("flipped", "lost", "gained", "unexpected", "slower",
                                      "faster", "axioms_changed", "added", "removed")
@@ -136,8 +177,8 @@ def diff_text(d: dict) -> str:
         lines.append(f"removed     {x['key']:<{w}}  (was {x['before']})")
     out.extend(lines or ["no changes"])
     out.append(f"{len(d['flipped'])} flipped, {len(d['lost'])} lost, {len(d['unexpected'])} "
-               f"unexpected, {len(d['gained'])} gained, {len(d['axioms_changed'])} with other "
-               f"axioms used; run {d['b']}: {d['reused']} reused, {d['searched']} searched"
+               f"unexpected, {len(d['gained'])} gained, {len(d['axioms_changed'])} "
+               f"proof{'s' if len(d['axioms_changed']) != 1 else ''} using other axioms; run {d['b']}: {d['reused']} reused, {d['searched']} searched"
                + ("" if d.get("finished", True) else " (a run is still going)"))
     return "\n".join(out)
 
@@ -188,6 +229,8 @@ def json_summary(view: dict) -> dict:
         d = view["diff"]
         out["changes"] = {k: d[k] for k in ("gained", "lost", "flipped", "unexpected",
                                             "axioms_changed", "slower", "faster")}
+        if "axiom_changes" in d:
+            out["changes"]["axiom_changes"] = d["axiom_changes"]
     return out
 
 
@@ -212,12 +255,14 @@ def cmd_run(args) -> int:
             print(json.dumps(first))
         else:
             print(f"run {rid} of suite {suite.name}: {first['total']} obligations submitted "
-                  f"(batch {first['batch']}); {first['reused']} reused, "
+                  f"({_batch_part(first)}); {first['reused']} reused, "
                   f"{first['searched']} to search")
             print(f"follow it with: nightjar status {first['batch']}")
         return EXIT_OK
     if not args.json:
-        print(f"run {rid} of suite {suite.name}: {first['total']} obligations, "
+        note = checks_note(first)
+        print(f"run {rid} of suite {suite.name}: {first['total']} obligations"
+              f"{' ' + note if note else ''}, "
               f"{first['reused']} reused, {first['searched']} to search", file=sys.stderr)
     bar = Bar() if not args.json else Bar(stream=open("/dev/null", "w"))
     delay = 0.05
@@ -299,8 +344,11 @@ def cmd_runs(args) -> int:
         return EXIT_OK
     for r in out:
         when = time.strftime("%Y-%m-%d %H:%M:%S", time.localtime(r["created"]))
+        # the manifest as named where the run was started (runs before that
+        # was stored: its file name only)
+        where = r.get("manifest_path") or r.get("manifest") or ""
         print(f"{r['run']}  {when}  {r['suite']:<20} {r['obligations']:>5} obligations, "
-              f"{r['reused']:>5} reused  {'(full) ' if r['full'] else ''}{r.get('manifest') or ''}")
+              f"{r['reused']:>5} reused  {'(full) ' if r['full'] else ''}{where}")
     return EXIT_OK
 
 

@@ -409,12 +409,28 @@ def load_suite(path: str) -> Suite:
 def submission(suite: Suite, *, full: bool = False) -> dict:
     """The body of ``POST /api/corpus/runs`` for a loaded suite."""
     return {"suite": suite.name, "manifest": os.path.basename(suite.manifest),
+            "manifest_path": manifest_path(suite.manifest),
             "description": suite.description, "source": suite.source,
             "time_limit": suite.time_limit, "settings": dict(suite.settings),
             "axiom_check_time": suite.axiom_check_time,
             "axiom_files": list(suite.axioms),
             "expectations": dict(suite.expectations), "full": bool(full),
             "problems": [{"file": p.file, "bundle": p.bundle} for p in suite.problems]}
+
+
+def manifest_path(manifest: str) -> str:
+    """The manifest as the user named it, relative to where the run was
+    started (an absolute path when it lies above that folder): what tells
+    apart runs of one suite name made from different folders."""
+    shown = os.path.normpath(manifest).replace(os.sep, "/")
+    if os.path.isabs(shown):
+        try:
+            rel = os.path.relpath(shown).replace(os.sep, "/")
+        except ValueError:          # another drive
+            return shown
+        if rel != ".." and not rel.startswith("../"):
+            return rel
+    return shown
 
 
 # ================================================================= hashing
@@ -430,6 +446,49 @@ def axiom_table(problem) -> dict:
     """name -> content hash of every statement that is not a conjecture."""
     return {s.name: statement_hash(s) for s in problem.statements
             if s.role not in (CONJECTURE, NEGATED_CONJECTURE)}
+
+
+def axiom_places(problem) -> dict:
+    """name -> the file (after includes) of every statement that is not a
+    conjecture."""
+    return {s.name: (s.span.file if s.span is not None else None) for s in problem.statements
+            if s.role not in (CONJECTURE, NEGATED_CONJECTURE)}
+
+
+def axiom_index(run: dict) -> list:
+    """Every axiom of a run as ``{"name", "file", "hash"}``, sorted: from the
+    run's ``axiom_index`` when stored, else (runs made before it was) from its
+    axiom sets, without the file."""
+    stored = run.get("axiom_index")
+    if isinstance(stored, list):
+        return stored
+    seen = {(n, h) for table in (run.get("axiom_sets") or {}).values() for n, h in table.items()}
+    return [{"name": n, "file": None, "hash": h} for n, h in sorted(seen)]
+
+
+def axiom_changes(before: list | None, after: list | None) -> dict:
+    """Axioms added, removed and edited (same name, other content hash) from
+    one run's :func:`axiom_index` to another's.  An axiom that only moved to
+    another file is not a change.  Each item: ``{"name", "file"}`` (the file
+    it is in, or was in when removed; None when the run did not record it),
+    edited ones also ``"file_before"``."""
+    def by_name(index):
+        out: dict = {}
+        for e in index or []:
+            d = out.setdefault(e["name"], {"hashes": set(), "files": set()})
+            d["hashes"].add(e["hash"])
+            if e.get("file"):
+                d["files"].add(e["file"])
+        return out
+
+    def where(d):
+        return ", ".join(sorted(d["files"])) or None
+
+    a, b = by_name(before), by_name(after)
+    return {"added": [{"name": n, "file": where(b[n])} for n in sorted(b) if n not in a],
+            "removed": [{"name": n, "file": where(a[n])} for n in sorted(a) if n not in b],
+            "edited": [{"name": n, "file": where(b[n]), "file_before": where(a[n])}
+                       for n in sorted(b) if n in a and a[n]["hashes"] != b[n]["hashes"]]}
 
 
 def set_id(table: dict) -> str:
@@ -666,20 +725,23 @@ def read_submission(body: dict, *, max_time_limit: float, max_jobs: int) -> dict
         except InputError as e:
             raise RunRefused(e.render(), e, code="input_error") from None
         table = axiom_table(problem)
+        places = axiom_places(problem)
         for c in problem.obligations():
             ch = statement_hash(problem.statement(c)) if c is not None else None
             obligations.append({"key": obligation_key(item["file"], c), "file": item["file"],
                                 "conjecture": c, "problem": problem, "bundle": bundle,
                                 "axioms": table, "axiom_set": set_id(table),
-                                "conjecture_hash": ch})
+                                "places": places, "conjecture_hash": ch})
     if len(obligations) > max_jobs:
         raise RunRefused(f"{len(obligations)} proof obligations in one run; the limit is "
                          f"{max_jobs}", code="too_many_jobs")
     return {"suite": suite, "time_limit": float(tl), "axiom_check_time": act,
             "settings": settings, "expectations": expectations,
             "obligations": obligations, "full": bool(body.get("full", False)),
-            "meta": {k: body.get(k) for k in ("manifest", "description", "source", "axiom_files")
-                     if isinstance(body.get(k), (str, list))}}
+            "meta": {k: (v[:1000] if isinstance(v, str) else v) for k, v in
+                     ((k, body.get(k)) for k in ("manifest", "manifest_path", "description",
+                                                 "source", "axiom_files"))
+                     if isinstance(v, (str, list))}}
 
 
 def create_run(store, corpus: CorpusStore, dispatcher, owner: str, body: dict, *,
@@ -738,6 +800,8 @@ def create_run(store, corpus: CorpusStore, dispatcher, owner: str, body: dict, *
         if i in guard_reuse:
             g["reused"] = {k: v for k, v in guard_reuse[i].items() if k != "record"}
     axiom_sets = {ob["axiom_set"]: ob["axioms"] for ob in obligations}
+    index = sorted({(n, ob["places"].get(n) or "", h) for ob in obligations
+                    for n, h in ob["axioms"].items()})
     run = {"id": rid, "suite": sub["suite"], "owner": owner, "by": owner,
            "created": time.time(), "batch": bid, "full": sub["full"],
            "previous": previous["id"] if previous else None,
@@ -745,6 +809,7 @@ def create_run(store, corpus: CorpusStore, dispatcher, owner: str, body: dict, *
            "settings": sub["settings"], "expectations": sub["expectations"],
            **sub["meta"],
            "axiom_sets": axiom_sets,
+           "axiom_index": [{"name": n, "file": f or None, "hash": h} for n, f, h in index],
            "guards": [{k: g[k] for k in ("set", "axioms", "job", "skipped", "reused") if k in g}
                       for g in guards],
            "obligations": []}
@@ -824,7 +889,9 @@ def run_view(run: dict, jobs: dict, guard_models: dict | None = None) -> dict:
         "run": run["id"], "suite": run["suite"], "batch": run["batch"],
         "created": run["created"], "by": run.get("by"), "previous": run.get("previous"),
         "full": run.get("full", False), "manifest": run.get("manifest"),
+        "manifest_path": run.get("manifest_path"),
         "total": len(rows),
+        "axiom_checks": sum(1 for g in guards if g.get("job")),
         "done": sum(1 for r in rows if r["state"] in FINAL),
         "settled": sum(1 for r in rows if r["verdict"] in V.DEFINITE),
         "finished": finished,
@@ -839,7 +906,7 @@ def run_view(run: dict, jobs: dict, guard_models: dict | None = None) -> dict:
         "reuse_check_seconds": round(checks, 3),
         "search_seconds": round(sum(r["seconds"] or 0.0 for r in rows if not r["reused"]), 3),
     }
-    return {"summary": summary, "guards": guards, "rows": rows}
+    return {"summary": summary, "guards": guards, "rows": rows, "axioms": axiom_index(run)}
 
 
 def _kind(verdict) -> str:
@@ -859,7 +926,9 @@ def compare(a: dict, b: dict, *, threshold: float = DEFAULT_TIME_THRESHOLD,
     definite verdict differs from b's expectation.  slower / faster: both
     searched and settled the same way, time changed by at least ``threshold``
     seconds and the factor ``ratio``.  axioms_changed: proved in both, with a
-    different set of axioms used.  added / removed: obligations only in b / a."""
+    different set of axioms used.  added / removed: obligations only in b / a.
+    axiom_changes: the axioms themselves added, removed or edited
+    (:func:`axiom_changes` of the views' ``axioms``)."""
     ra = {r["key"]: r for r in a["rows"]}
     rb = {r["key"]: r for r in b["rows"]}
     out = {"a": a["summary"]["run"], "b": b["summary"]["run"], "suite": b["summary"]["suite"],
@@ -868,7 +937,8 @@ def compare(a: dict, b: dict, *, threshold: float = DEFAULT_TIME_THRESHOLD,
            "reused": b["summary"]["reused"], "searched": b["summary"]["searched"],
            "axioms_consistent": {"a": a["summary"]["axioms_consistent"],
                                  "b": b["summary"]["axioms_consistent"]},
-           "finished": a["summary"]["finished"] and b["summary"]["finished"]}
+           "finished": a["summary"]["finished"] and b["summary"]["finished"],
+           "axiom_changes": axiom_changes(a.get("axioms"), b.get("axioms"))}
     for key, y in rb.items():
         x = ra.get(key)
         if y["unexpected"]:
@@ -913,6 +983,13 @@ def counts(diff: dict | None) -> dict:
     return {k: len(diff[k]) for k in keys}
 
 
+def last_two(corpus: CorpusStore, owner: str, suite: str) -> tuple | None:
+    """(the run before the last, the last run) of an owner's suite, or None
+    when it has fewer than two runs."""
+    ids = corpus.runs(owner, suite)
+    return (ids[1], ids[0]) if len(ids) >= 2 else None
+
+
 def view_of(store, corpus: CorpusStore, run: dict) -> dict:
     """The view of a stored run, reading its jobs (and guard model sizes)."""
     ids = [o["job"] for o in run["obligations"]] + [g["job"] for g in run.get("guards", [])
@@ -930,4 +1007,5 @@ def view_of(store, corpus: CorpusStore, run: dict) -> dict:
 
 __all__ = ["Suite", "SuiteProblem", "SuiteError", "load_suite", "submission", "obligation_key",
            "statement_hash", "axiom_table", "plan_reuse", "CorpusStore", "create_run",
-           "read_submission", "RunRefused", "run_view", "compare", "counts", "view_of"]
+           "read_submission", "RunRefused", "run_view", "compare", "counts", "view_of",
+           "axiom_index", "axiom_changes", "last_two", "manifest_path"]

@@ -111,6 +111,7 @@ def suite_runs(name):
         if r:
             out.append({"run": rid, "created": r["created"], "batch": r["batch"],
                         "full": r.get("full", False), "manifest": r.get("manifest"),
+                        "manifest_path": r.get("manifest_path"),
                         "obligations": len(r["obligations"]),
                         "reused": sum(1 for o in r["obligations"] if o.get("reused"))})
     return jsonify({"suite": name, "runs": out})

@@ -463,3 +463,144 @@ def test_axiom_edit_gives_lost_and_gained_lines(env, tmp_path):
     assert cli_corpus.exit_code(v3["summary"]) == 0
     # only infinite models: the consistency check can neither refute nor satisfy
     assert v3["summary"]["axioms_consistent"] is None
+
+
+# -- the axioms themselves: what changed between two runs ---------------------
+
+class ApiClient:
+    """The CLI's client, answered by the Flask test client."""
+
+    def __init__(self, env):
+        self.env = env
+
+    def get(self, path, **q):
+        resp = self.env.c.get(path, query_string={k: v for k, v in q.items() if v is not None},
+                              headers=self.env.h)
+        assert resp.status_code == 200, resp.get_json()
+        return resp.get_json()
+
+
+def test_diff_names_the_axioms_edited_added_and_removed(env, tmp_path, monkeypatch, capsys):
+    root = write_suite(tmp_path)
+    _, v1 = env.run_suite(root)
+    # bc edited, lamp removed, ca added; the rules file untouched; ab only respaced
+    write_suite(tmp_path, {"ax/facts.nj": """\
+        axiom ab:   edge(a,b)   # the same content
+        axiom bc: edge(b, d)
+        axiom ca: edge(c, a)
+        """})
+    _, v2 = env.run_suite(root)
+    want = {"added": [{"name": "ca", "file": "ax/facts.nj"}],
+            "removed": [{"name": "lamp", "file": "ax/facts.nj"}],
+            "edited": [{"name": "bc", "file": "ax/facts.nj", "file_before": "ax/facts.nj"}]}
+    assert v2["diff"]["axiom_changes"] == want
+    # the stored run names every axiom with its file and hash
+    rec = C.CorpusStore(env.r).get_run(v2["summary"]["run"])
+    assert {(e["name"], e["file"]) for e in rec["axiom_index"]} == {
+        ("ab", "ax/facts.nj"), ("bc", "ax/facts.nj"), ("ca", "ax/facts.nj"),
+        ("chain", "ax/rules.nj"), ("step", "ax/rules.nj")}
+
+    monkeypatch.setattr(cli_corpus, "_client", lambda args: ApiClient(env))
+    from service.cli import main
+    code = main(["corpus", "diff", "--suite", "paths", "--json"])
+    out = capsys.readouterr().out
+    import json
+    d = json.loads(out)
+    assert d["axiom_changes"] == want
+    # every key the JSON had before is still there, unchanged in meaning
+    for k in ("a", "b", "suite", "gained", "lost", "flipped", "unexpected", "slower", "faster",
+              "axioms_changed", "added", "removed", "reused", "searched",
+              "axioms_consistent", "finished", "regression", "guards_b"):
+        assert k in d, k
+    assert code == 5 and len(d["flipped"]) == 3     # ac_path, ca_path, a_lit (lamp gone)
+
+    main(["corpus", "diff", "--suite", "paths"])
+    text = capsys.readouterr().out
+    lines = text.splitlines()
+    head = lines.index("axioms changed: 1 edited, 1 added, 1 removed")
+    assert lines[head + 1].split() == ["edited", "bc", "(ax/facts.nj)"]
+    assert lines[head + 2].split() == ["added", "ca", "(ax/facts.nj)"]
+    assert lines[head + 3].split() == ["removed", "lamp", "(was", "in", "ax/facts.nj)"]
+    # near the top: before the gained, lost and flipped lines
+    first_change = min(i for i, ln in enumerate(lines)
+                       if ln.split()[:1] in (["FLIPPED"], ["lost"], ["gained"]))
+    assert head < first_change
+    assert "using other axioms" in lines[-1]
+
+    # a rerun with no edit: none
+    _, v3 = env.run_suite(root)
+    assert v3["diff"]["axiom_changes"] == {"added": [], "removed": [], "edited": []}
+    assert "axioms changed: none" in cli_corpus.diff_text(v3["diff"])
+
+
+def test_axioms_moved_to_another_file_are_not_changes_and_old_runs_still_compare():
+    before = [{"name": "x", "file": "ax1/a.nj", "hash": "h1"},
+              {"name": "y", "file": "ax1/a.nj", "hash": "h2"}]
+    after = [{"name": "x", "file": "ax2/a.nj", "hash": "h1"},
+             {"name": "y", "file": "ax2/a.nj", "hash": "h9"}]
+    assert C.axiom_changes(before, after) == {
+        "added": [], "removed": [],
+        "edited": [{"name": "y", "file": "ax2/a.nj", "file_before": "ax1/a.nj"}]}
+    # one name in two files of one run (local axioms of two problems): a
+    # change in either is an edit of that name
+    two = before + [{"name": "y", "file": "p.nj", "hash": "h3"}]
+    assert C.axiom_changes(two, two)["edited"] == []
+    assert C.axiom_changes(two, before)["edited"][0]["name"] == "y"
+    # a run stored before the index: its axiom sets, no file
+    old = {"axiom_sets": {"s1": {"x": "h1", "y": "h2"}, "s2": {"x": "h1"}}}
+    assert C.axiom_index(old) == [{"name": "x", "file": None, "hash": "h1"},
+                                  {"name": "y", "file": None, "hash": "h2"}]
+    ch = C.axiom_changes(C.axiom_index(old), after)
+    assert ch["edited"] == [{"name": "y", "file": "ax2/a.nj", "file_before": None}]
+    a = view("A", [("f#g", "Theorem", 0.1, ["x"], False)])
+    b = view("B", [("f#g", "Theorem", 0.1, ["x"], False)])
+    assert C.compare(a, b)["axiom_changes"] == {"added": [], "removed": [], "edited": []}
+    assert "(was" not in cli_corpus.diff_text(C.compare(a, b))
+
+
+def test_runs_from_two_folders_are_told_apart(env, tmp_path, monkeypatch, capsys):
+    write_suite(tmp_path / "one")
+    write_suite(tmp_path / "two")
+    monkeypatch.chdir(tmp_path)
+    env.run_suite("one")
+    env.run_suite(str(tmp_path / "two" / "suite.toml"))     # absolute: stored relative
+    monkeypatch.setattr(cli_corpus, "_client", lambda args: ApiClient(env))
+    from service.cli import main
+    assert main(["corpus", "runs"]) == 0
+    lines = capsys.readouterr().out.splitlines()
+    assert len(lines) == 2
+    assert lines[0].endswith(" two/suite.toml") and lines[1].endswith(" one/suite.toml")
+    runs = env.c.get("/api/corpus/suites/paths/runs", headers=env.h).get_json()["runs"]
+    assert [r["manifest_path"] for r in runs] == ["two/suite.toml", "one/suite.toml"]
+    assert [r["manifest"] for r in runs] == ["suite.toml", "suite.toml"]
+    # a run stored before the path was: still listed, with its file name
+    cs = C.CorpusStore(env.r)
+    rec = cs.get_run(runs[1]["run"])
+    del rec["manifest_path"]
+    cs.save_run(rec)
+    assert main(["corpus", "runs", "--suite", "paths"]) == 0
+    lines = capsys.readouterr().out.splitlines()
+    assert lines[0].endswith(" two/suite.toml") and lines[1].endswith(" suite.toml")
+    assert not lines[1].endswith("/suite.toml")
+
+
+def test_manifest_path_is_relative_to_where_the_run_started(tmp_path, monkeypatch):
+    monkeypatch.chdir(tmp_path)
+    assert C.manifest_path("corpus/demo/./suite.toml") == "corpus/demo/suite.toml"
+    assert C.manifest_path(str(tmp_path / "x" / "suite.toml")) == "x/suite.toml"
+    assert C.manifest_path("/elsewhere/suite.toml") == "/elsewhere/suite.toml"
+
+
+def test_the_run_report_says_the_batch_holds_the_axiom_check_too(env, tmp_path):
+    root = write_suite(tmp_path)
+    first, v = env.run_suite(root)
+    s = v["summary"]
+    assert s["total"] == 5 and s["axiom_checks"] == 1 and first["axiom_checks"] == 1
+    assert len(env.store.batch_job_ids(s["batch"])) == 6
+    head = cli_corpus.report_text(v).splitlines()[0]
+    assert head.endswith(f"5 obligations (batch {s['batch']}: 6 jobs, the 5 obligations "
+                         f"plus 1 axiom consistency check)")
+    # no axioms, no check: nothing to say
+    no_ax = dict(s, axiom_checks=0)
+    assert cli_corpus.checks_note(no_ax) == ""
+    assert "consistency" not in cli_corpus._batch_part(no_ax)

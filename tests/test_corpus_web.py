@@ -1,0 +1,137 @@
+"""The console's corpus pages (compare, run, suite) for what a user looks
+for after editing axioms: which axioms changed, which proofs now use other
+axioms, the suite's folder, the batch's extra axiom check job, and
+``/compare?suite=NAME``.  Flask test client over fakeredis, jobs worked off
+in-process with the real engine."""
+
+from __future__ import annotations
+
+import fakeredis
+import pytest
+
+from service import corpus as C
+from service.app import create_app
+from service.config import Config
+from service.store import Store
+from tests.test_web_pages import Console
+
+SUITE = """\
+[suite]
+name = "ferrylines"
+description = "a few landings"
+source = "made up for a test"
+time_limit = 5
+axioms = ["ax/*.nj"]
+problems = ["goals/*.nj"]
+"""
+RULES = "axiom step: forall x y. route(x, y) implies reach(x, y)\n" \
+        "axiom onward: forall x y z. reach(x, y) and route(y, z) implies reach(x, z)\n"
+ROUTES_1 = "axiom mill_quay: route(mill, quay)\naxiom quay_heron: route(quay, heron)\n" \
+           "axiom heron_ashford: route(heron, ashford)\n"
+# heron_ashford edited to route(mill, fell); a new route added; mill_quay untouched
+ROUTES_2 = "axiom mill_quay: route(mill, quay)\naxiom quay_heron: route(quay, heron)\n" \
+           "axiom heron_ashford: route(mill, fell)\naxiom fell_dunmere: route(fell, dunmere)\n"
+GOALS = "conjecture to_heron: reach(mill, heron)\nconjecture to_ashford: reach(mill, ashford)\n"
+
+
+@pytest.fixture
+def env(monkeypatch):
+    monkeypatch.delenv("NIGHTJAR_SECRET_KEY", raising=False)
+    monkeypatch.delenv("NIGHTJAR_COOKIE_SECURE", raising=False)
+    r = fakeredis.FakeRedis()
+    app = create_app(Config(max_time_limit=60, default_time_limit=10), r)
+    store = Store(r)
+    e = Console(app, r, store)
+    e.alice = store.add_token("alice")
+    return e
+
+
+def write(root, routes):
+    for name, text in {"suite.toml": SUITE, "ax/rules.nj": RULES, "ax/routes.nj": routes,
+                       "goals/g.nj": GOALS}.items():
+        (root / name).parent.mkdir(parents=True, exist_ok=True)
+        (root / name).write_text(text)
+
+
+def run(e, path):
+    body = C.submission(C.load_suite(str(path)))
+    resp = e.app.test_client().post("/api/corpus/runs", json=body,
+                                    headers={"Authorization": f"Bearer {e.alice}"})
+    assert resp.status_code == 202, resp.get_data(as_text=True)
+    e.run_all()
+    return resp.get_json()["run"]
+
+
+def section(page, name):
+    return page.split(f'id="{name}"')[1].split("</section>")[0]
+
+
+def test_compare_page_names_the_changed_axioms_and_labels_the_proofs_using_others(
+        env, tmp_path, monkeypatch):
+    monkeypatch.chdir(tmp_path)
+    write(tmp_path / "x", ROUTES_1)
+    r1 = run(env, "x")
+    write(tmp_path / "x", ROUTES_2)
+    r2 = run(env, "x")
+    env.sign_in(env.alice)
+    page = env.get(f"/compare?a={r1}&b={r2}")
+    ax = section(page, "axiom-changes")
+    assert 'class="count">2<' in ax
+    assert "<code>heron_ashford</code></td><td>edited</td><td>ax/routes.nj</td>" in ax
+    assert "<code>fell_dunmere</code></td><td>added</td><td>ax/routes.nj</td>" in ax
+    assert "mill_quay" not in ax and "onward" not in ax
+    # before gained/lost/flipped
+    assert page.index('id="axiom-changes"') < page.index('id="gained"')
+    # the old figure, for what it is: to_ashford is no longer a theorem (a
+    # countermodel now), to_heron kept the same axioms, so no proof uses others
+    assert "proofs using other axioms 0" in page
+    assert "axioms changed 0" not in page
+    assert "goals/g.nj#to_ashford" in section(page, "flipped")
+
+    # the same through ?suite=: the suite's last two runs
+    page2 = env.get("/compare?suite=ferrylines")
+    assert f"/runs/{r1}" in page2 and f"/runs/{r2}" in page2
+    assert page2.index(f"/runs/{r1}") < page2.index(f"/runs/{r2}")
+    assert "<code>heron_ashford</code>" in section(page2, "axiom-changes")
+    env.get("/compare?suite=nosuch", status=404)
+    env.get("/compare", status=400)
+
+
+def test_compare_page_lists_proofs_using_other_axioms(env, tmp_path):
+    write(tmp_path, ROUTES_1)
+    r1 = run(env, tmp_path)
+    # quay_heron edited away and a shortcut added: to_heron is searched again
+    # and its proof rests on the shortcut rather than on the routes
+    (tmp_path / "ax" / "routes.nj").write_text(
+        ROUTES_1.replace("route(quay, heron)", "route(quay, fell)")
+        + "axiom shortcut: reach(mill, heron)\n")
+    r2 = run(env, tmp_path / "suite.toml")
+    env.sign_in(env.alice)
+    view = env.app.test_client().get(f"/api/corpus/diff?a={r1}&b={r2}",
+                                     headers={"Authorization": f"Bearer {env.alice}"}).get_json()
+    page = env.get(f"/compare?a={r1}&b={r2}")
+    n = len(view["axioms_changed"])
+    assert n >= 1, view["axioms_changed"]
+    assert f"proofs using other axioms {n}" in page
+    for it in view["axioms_changed"]:
+        assert f"proof using other axioms: {it['key']}" in page
+    ax = section(page, "axiom-changes")
+    assert "<code>shortcut</code></td><td>added</td>" in ax
+    assert "<code>quay_heron</code></td><td>edited</td>" in ax
+
+
+def test_run_and_suite_pages_show_the_axiom_check_job_and_the_manifest_path(
+        env, tmp_path, monkeypatch):
+    monkeypatch.chdir(tmp_path)
+    write(tmp_path / "one", ROUTES_1)
+    write(tmp_path / "two", ROUTES_1)
+    r1 = run(env, "one")
+    r2 = run(env, "two/suite.toml")
+    env.sign_in(env.alice)
+    page = env.get(f"/runs/{r1}")
+    note = page.split('id="batch-note">')[1].split("</span>")[0]
+    assert note == "3 jobs: the 2 obligations plus 1 axiom consistency check"
+    assert "<dd>one/suite.toml</dd>" in page
+    page = env.get("/suites/ferrylines")
+    assert "<td>one/suite.toml</td>" in page and "<td>two/suite.toml</td>" in page
+    assert r2 in page
