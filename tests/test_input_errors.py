@@ -59,6 +59,17 @@ CASES = [
     ("axiom a: forall x: p(x)", "expected '.' after the variables of 'forall'", 1, 18),
     ("axiom a: f() = a", "empty argument list", 1, 12),
     ("axiom a: p 'open", "unterminated quote", 1, 12),
+    # operators of other notations: what to write instead
+    ("axiom a: p(x) => q(x)", "'=>' is not an operator here; write 'implies' (or '->', "
+     "'→')", 1, 15),
+    ("axiom a: p <=> q", "'<=>' is not an operator here; write 'iff' (or '<->', '↔')",
+     1, 12),
+    ("axiom a: p <= q", "'<=' is not an operator here; for 'p <= q' write 'q implies p'",
+     1, 12),
+    ("axiom a: p <~> q", "for 'p <~> q' write 'not (p iff q)'", 1, 12),
+    ("axiom a: a == b", "'==' is not an operator here; an equation is written with one "
+     "'='", 1, 12),
+    ("axiom a: p=>q", "'=>' is not an operator here", 1, 11),
     ("", "the file is empty", 1, 1),
     ("# nothing here\n", "without statements", 1, 1),
 ]

@@ -130,9 +130,27 @@ _NATIVE_RE = re.compile(r"""
  | (?P<num>[0-9]+)
  | (?P<quoted>'(?:[^'\\\n]|\\.)*')
  | (?P<string>"(?:[^"\\\n]|\\.)*")
+ | (?P<foreign><=>|<~>|=>|<=|==)
  | (?P<op><->|->|!=|[↔→∨∧¬∀∃≠~&|=*+(),.:])
  | (?P<bad>.)
 """, re.VERBOSE | re.DOTALL)
+
+# Operators of other notations (TPTP, programming languages) that people type
+# out of habit: the error says what the native language writes instead.
+_FOREIGN = {
+    "=>": "write 'implies' (or '->', '→')",
+    "<=>": "write 'iff' (or '<->', '↔')",
+    "<=": "for 'p <= q' write 'q implies p' (or 'q -> p')",
+    "<~>": "for 'p <~> q' write 'not (p iff q)'",
+    "==": "an equation is written with one '=': s = t",
+}
+
+
+def foreign_operator(src: Source, offset: int, op: str) -> InputError:
+    return src.error(f"'{op}' is not an operator here; {_FOREIGN[op]}", offset,
+                     "the connectives are not, and, or, implies, iff (also written "
+                     "~ & | -> <-> and ¬ ∧ ∨ → ↔); see DEVELOPERS.md, 'The native "
+                     "problem language'")
 
 
 def tokenize_native(src: Source):
@@ -152,6 +170,8 @@ def tokenize_native(src: Source):
             ka(ops[s])
         elif g == "bad":
             raise unknown_char(src, m.start())
+        elif g == "foreign":
+            raise foreign_operator(src, m.start(), s)
         else:
             ka(g)
         ta(s)
