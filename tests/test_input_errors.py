@@ -70,6 +70,14 @@ CASES = [
     ("axiom a: a == b", "'==' is not an operator here; an equation is written with one "
      "'='", 1, 12),
     ("axiom a: p=>q", "'=>' is not an operator here", 1, 11),
+    # TPTP statements in a native file
+    ("axiom a: p(a)\nfof(b, axiom, q).", "this looks like a TPTP statement ('fof(...)'), "
+     "but the file is read as the native language", 2, 1),
+    ("axiom a: p and q\n  cnf(b, axiom, q).", "looks like a TPTP statement ('cnf(...)')",
+     2, 3),
+    ("axiom a: p\ntff(b, axiom, q).", "looks like a TPTP statement ('tff(...)')", 2, 1),
+    ("axiom a: p\ninclude('Axioms/SET001-0.ax').", "looks like a TPTP statement "
+     "('include(...)')", 2, 1),
     ("", "the file is empty", 1, 1),
     ("# nothing here\n", "without statements", 1, 1),
 ]
@@ -429,3 +437,18 @@ def test_a_file_name_with_control_characters_is_shown_visibly(tmp_path):
     assert e.value.span.file == str(f)
     assert "evil\u241b[2J.nj:1:12: error:" in e.value.render()
     assert raw_free(e.value.render())
+
+
+def test_a_tptp_statement_in_a_native_file_says_how_the_language_is_chosen(tmp_path):
+    e = error_of("conjecture c: p\nfof(b, axiom, p).")
+    assert "unknown connective" not in e.message and "did you mean" not in e.message
+    assert "first statement" in e.hint and ".p" in e.hint and "--language" in e.hint
+    e = error_of("fof(b, axiom, p).", name="x.p", language="native")
+    assert "looks like a TPTP statement ('fof(...)')" in e.message
+    assert "forced to native (--language native)" in e.hint
+    # a name spelled like a TPTP kind is still a name where it is no statement
+    assert parse_text("axiom a: fof(x) and cnf").statements[0].formula is not None
+    # told apart per file, a TPTP file included from a native one is fine
+    (tmp_path / "ax.p").write_text("fof(b, axiom, p).\n")
+    (tmp_path / "m.nj").write_text('include "ax.p"\nconjecture c: p\n')
+    assert [s.name for s in load_problem(str(tmp_path / "m.nj")).statements] == ["b", "c"]

@@ -144,6 +144,7 @@ class Loader:
             self.main_language = lang
         parser = (NativeParser if lang == "native" else TptpParser)(
             src, self.symbols, self.include)
+        parser.forced = self.language is not None
         self.stack.append(name)
         try:
             statements = parser.parse()

@@ -36,6 +36,7 @@ _STATEMENT_END = frozenset(STATEMENT_KEYWORDS) | {"include", "eof"}
 _RESERVED_NAMES = frozenset({"forall", "exists", "not", "and", "or", "implies",
                              "iff", "true", "false", "include"}) | frozenset(STATEMENT_KEYWORDS)
 TOP_KEYWORDS = STATEMENT_KEYWORDS + ("include",)
+_TPTP_KINDS = frozenset({"fof", "cnf", "tff", "thf", "tcf", "tpi", "tfx"})
 
 
 class _Tm:
@@ -63,6 +64,28 @@ class NativeParser(TokenCursor):
     def __init__(self, src: Source, symbols, on_include):
         super().__init__(src, symbols, on_include, tokenize_native)
         self.binders: dict = {}     # var -> offset of its name in the binder
+        self.forced = False         # the language was forced (not told from the text)
+
+    def tptp_statement(self, i):
+        """Raise if token ``i`` starts what looks like a TPTP statement
+        (``fof(``, ``cnf(``, ``include(``, a typed dialect's ``tff(``, ...)."""
+        kind, text = self.k[i], self.t[i]
+        if self.k[i + 1] != "(" or not (kind == "include" or
+                                         (kind == "name" and text in _TPTP_KINDS)):
+            return
+        if self.forced:
+            hint = ("the language was forced to native (--language native); leave "
+                    "that out to have each file told apart, or move the TPTP "
+                    "statements into a file of their own and include it: "
+                    'include "axioms.p"')
+        else:
+            hint = ("each file is read in one language, told by its first statement "
+                    "(then by its ending: .p .ax .tptp .fof .cnf mean TPTP; "
+                    "--language forces one): move the TPTP statements into a file of "
+                    'their own and include it (include "axioms.p"), or write them '
+                    "in the native language")
+        raise self.err(f"this looks like a TPTP statement ('{text}(...)'), but the "
+                       f"file is read as the native language", i, hint=hint)
 
     # ------------------------------------------------------------ helpers
 
@@ -95,6 +118,7 @@ class NativeParser(TokenCursor):
             elif kind == "include":
                 out.extend(self.include())
             elif kind == "name":
+                self.tptp_statement(self.i)
                 word = self.t[self.i]
                 s = suggest_keyword(word)
                 if s:
@@ -114,6 +138,7 @@ class NativeParser(TokenCursor):
 
     def include(self) -> list:
         inc_i = self.i
+        self.tptp_statement(inc_i)
         self.i += 1
         if self.k[self.i] != "string":
             raise self.err(f"expected a file name in double quotes after 'include', "
@@ -171,6 +196,7 @@ class NativeParser(TokenCursor):
         if kind == ")":
             raise self.err("unbalanced brackets: this ')' has no matching '('")
         if kind == "name":
+            self.tptp_statement(i)
             word = self.t[i]
             if self.k[i + 1] in ("name", "num", "quoted") and self.k[i + 2] == ":":
                 s = suggest_keyword(word, STATEMENT_KEYWORDS)
