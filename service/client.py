@@ -185,15 +185,22 @@ class Client:
                      queue: str | None = None, root: str | None = None) -> dict:
         """One problem file, several, or conjecture files against axiom
         files.  Raises InputError (from reading on this side), ApiError,
-        ServiceUnavailable."""
-        body = submission_body(paths, axioms=axioms, root=root)
+        ServiceUnavailable; an input error names the file as given in
+        ``paths`` / ``axioms``, whichever side found it."""
+        names: dict = {}
+        body = submission_body(paths, axioms=axioms, root=root, names=names)
         for k, v in (("time_limit", time_limit), ("label", label),
                      ("strategy", strategy), ("queue", queue)):
             if v is not None:
                 body[k] = v
         if reuse:
             body["reuse"] = True
-        return self.submit(body)
+        try:
+            return self.submit(body)
+        except ApiError as e:
+            if e.code != "input_error":
+                raise
+            raise ApiError(e.status, as_given(e.error, names)) from None
 
 
 def _name(path: str, root: str) -> str:
@@ -206,39 +213,81 @@ def _name(path: str, root: str) -> str:
     return rel.replace(os.sep, "/")
 
 
-def bundle_of(path: str, root: str | None = None) -> dict:
+def _as_given(path: str, name: str) -> str:
+    """The file ``name`` (relative to ``path``'s folder, as the bundle
+    reader names it) the way the user would write it: ``path`` itself for
+    the main file, else a path from the current folder (as ``check`` says)."""
+    if name == os.path.basename(path):
+        return path
+    folder = os.path.dirname(path)
+    if not folder or os.path.isabs(name):
+        return name
+    return os.path.normpath(os.path.join(folder, name))
+
+
+def bundle_of(path: str, root: str | None = None, names: dict | None = None) -> dict:
     """``{"main", "files"}`` for a file and everything it includes, names
-    relative to ``root`` (default: the current folder)."""
+    relative to ``root`` (default: the current folder).  An input error
+    names the file as the user gave it; ``names``, when given, gets each
+    bundle name -> that name."""
     from worker.syntax import collect_bundle
+    from worker.syntax.errors import InputError, Span
     root = os.path.abspath(root or os.getcwd())
     main = _name(path, root)
     prefix = posixpath.dirname(main)
-    files = collect_bundle(path)
+    try:
+        files = collect_bundle(path)
+    except InputError as e:
+        base = os.path.basename(path)
+        if base != path and (e.span is None or e.span.file == base):
+            e.message = e.message.replace(f"'{base}'", f"'{path}'", 1)  # cannot read ...
+        if e.span is not None:
+            e.span = Span(_as_given(path, e.span.file), e.span.line, e.span.col)
+        raise
     out = {}
     for name, text in files.items():
         full = posixpath.normpath(posixpath.join(prefix, name)) if prefix else name
         out[full] = text
+        if names is not None:
+            names.setdefault(full, _as_given(path, name))
     return {"main": main, "files": out}
 
 
+def as_given(err: dict, names: dict) -> dict:
+    """An API input error (its JSON) with the file named as the user gave
+    it (``names`` from :func:`submission_body`), in ``file`` and in the
+    rendered ``text``."""
+    file = err.get("file")
+    given = names.get(file) if file else None
+    if given is None or given == file:
+        return err
+    out = dict(err, file=given)
+    text = err.get("text") or ""
+    if text.startswith(f"{file}:"):
+        out["text"] = given + text[len(file):]
+    return out
+
+
 def submission_body(paths: list, *, axioms: list | None = None,
-                    root: str | None = None) -> dict:
+                    root: str | None = None, names: dict | None = None) -> dict:
+    """The JSON body of a submission of these files (``names``, when given,
+    gets each bundle name -> the file as the user gave it)."""
     paths = [str(p) for p in paths]
     if axioms:
         files: dict = {}
         mains = []
         for a in axioms:
-            b = bundle_of(str(a), root)
+            b = bundle_of(str(a), root, names)
             files.update(b["files"])
             mains.append(b["main"])
         conj = []
         for p in paths:
-            b = bundle_of(p, root)
+            b = bundle_of(p, root, names)
             extra = {k: v for k, v in b["files"].items() if k != b["main"]}
             files.update(extra)        # a conjecture file's own includes go along
             conj.append({"name": b["main"], "text": b["files"][b["main"]]})
         return {"axioms": {"main": mains if len(mains) > 1 else mains[0], "files": files},
                 "conjectures": conj}
     if len(paths) == 1:
-        return {"problem": bundle_of(paths[0], root)}
-    return {"problems": [bundle_of(p, root) for p in paths]}
+        return {"problem": bundle_of(paths[0], root, names)}
+    return {"problems": [bundle_of(p, root, names) for p in paths]}

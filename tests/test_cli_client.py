@@ -305,3 +305,33 @@ def test_status_of_a_running_batch_shows_its_jobs(service, capsys, monkeypatch):
     out = capsys.readouterr().out.splitlines()
     assert [ln.split()[-1] for ln in out if ln.split() and ln.split()[-1] in ids] == [
         ids[2], ids[4]]
+
+
+def test_submit_names_a_bad_file_as_given_when_read_here(tmp_path, monkeypatch, capsys):
+    (tmp_path / "bad").mkdir()
+    (tmp_path / "bad" / "unclosed.nj").write_text("axiom a: p(c)\nconjecture g: (p(c)\n")
+    (tmp_path / "bad" / "missing-inc.nj").write_text('include "lib/none.nj"\n')
+    monkeypatch.chdir(tmp_path)
+    monkeypatch.setenv("NIGHTJAR_SERVER", "http://127.0.0.1:9")   # never reached
+    assert cli.main(["submit", "bad/unclosed.nj"]) == 1
+    assert capsys.readouterr().err.startswith("bad/unclosed.nj:2:")
+    assert cli.main(["submit", "./bad/unclosed.nj"]) == 1
+    assert capsys.readouterr().err.startswith("./bad/unclosed.nj:2:")
+    assert cli.main(["submit", "bad/missing-inc.nj"]) == 1
+    assert capsys.readouterr().err.startswith("bad/missing-inc.nj:1:")
+    assert cli.main(["submit", "bad/none.nj"]) == 1
+    assert "'bad/none.nj'" in capsys.readouterr().err
+
+
+def test_submit_names_a_bad_file_as_given_when_the_service_finds_it(
+        service, tmp_path, monkeypatch, capsys):
+    """Files outside the current folder go under their base names; the
+    service's input error still names them as typed."""
+    (tmp_path / "here").mkdir()
+    (tmp_path / "other").mkdir()
+    (tmp_path / "other" / "ax.nj").write_text("axiom a: p(c)\nconjecture stray: p(c)\n")
+    (tmp_path / "other" / "c.nj").write_text("conjecture g: p(c)\n")
+    monkeypatch.chdir(tmp_path / "here")
+    code = cli.main(["submit", "../other/c.nj", "--axioms", "../other/ax.nj"])
+    err = capsys.readouterr().err
+    assert code == 1 and err.startswith("../other/ax.nj:2:1: error: the axioms hold")
