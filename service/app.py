@@ -57,6 +57,10 @@ def create_app(config: Config | None = None, redis_client: redis.Redis | None = 
     @app.errorhandler(HTTPException)
     def _http_error(e: HTTPException):
         if not request.path.startswith("/api"):
+            # outside the API: the console's own page when it is mounted
+            page = app.extensions.get("nightjar_html_errors")
+            if page is not None and (e.code or 0) >= 400:
+                return page(e)
             return e
         if e.code == 413:
             return api_error(413, "too_large", f"the upload is over the server's limit of "

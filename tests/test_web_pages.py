@@ -495,6 +495,33 @@ def test_error_pages(env):
     env.get("/batches?page=0", status=400)
 
 
+def test_unknown_addresses_get_the_consoles_404_page_and_headers(env):
+    def check(resp, status, words):
+        text = resp.get_data(as_text=True)
+        assert resp.status_code == status, (resp.status_code, text[:300])
+        assert resp.headers["Content-Type"].startswith("text/html")
+        assert "console.css" in text and words in text, text[:500]   # error.html, not the default
+        csp = resp.headers["Content-Security-Policy"]
+        assert "default-src 'self'" in csp and "frame-ancestors 'none'" in csp
+        assert resp.headers["X-Content-Type-Options"] == "nosniff"
+        assert resp.headers["X-Frame-Options"] == "DENY"
+        assert resp.headers["Referrer-Policy"] == "same-origin"
+        assert "no-store" in resp.headers["Cache-Control"]
+        return text
+
+    for path in ("/login", "/nothing/here", "/batches/b1/extra/parts", "/%3Cscript%3E"):
+        text = check(env.client.get(path), 404, "Not found")
+        assert "<script>" not in text and "signed in as" not in text
+    check(env.client.delete("/batches"), 405, "Not allowed here")
+    env.sign_in(env.alice)
+    assert "signed in as <strong>alice</strong>" in check(env.client.get("/login"), 404,
+                                                          "Not found")
+    # the API keeps its JSON 404
+    api = env.client.get("/api/nothing", headers={"Authorization": f"Bearer {env.alice}"})
+    assert api.status_code == 404 and api.is_json
+    assert api.get_json()["error"]["code"] == "not_found"
+
+
 def test_security_headers_and_no_outside_resources(env):
     env.sign_in(env.alice)
     bid = submitted_batch(env, GOOD)
@@ -691,3 +718,10 @@ def test_store_down_is_a_503_page(monkeypatch):
     fresh = create_app(Config(), fakeredis.FakeRedis(server=server))   # no key yet
     resp = fresh.test_client().get("/sign-in")
     assert resp.status_code == 503 and "not answering" in resp.get_data(as_text=True)
+    # an unknown address is still the console's 404 page while the store is down
+    for app_ in (app, fresh):
+        resp = app_.test_client().get("/login")
+        assert resp.status_code == 404 and "console.css" in resp.get_data(as_text=True)
+        assert "default-src 'self'" in resp.headers["Content-Security-Policy"]
+    resp = c.get("/login")                           # with a session cookie
+    assert resp.status_code == 404 and "console.css" in resp.get_data(as_text=True)

@@ -25,8 +25,8 @@ from datetime import datetime, timezone
 from urllib.parse import urlencode
 
 import redis
-from flask import (Blueprint, Response, abort, current_app, g, jsonify, redirect,
-                   render_template, request, session, url_for)
+from flask import (Blueprint, Response, abort, current_app, g, jsonify, make_response,
+                   redirect, render_template, request, session, url_for)
 from flask.sessions import NullSession, SecureCookieSessionInterface
 from werkzeug.exceptions import HTTPException
 
@@ -108,6 +108,7 @@ def _setup(state):
         app.config["SESSION_COOKIE_NAME"] = "nightjar_console"
     app.config["SESSION_COOKIE_HTTPONLY"] = True
     app.config["SESSION_COOKIE_SAMESITE"] = "Lax"
+    app.extensions["nightjar_html_errors"] = app_http_error
 
 
 def owner_of_token_hash(sha: str) -> str | None:
@@ -141,13 +142,8 @@ def _globals():
     return {"csrf_token": csrf_token, "signed_in_as": g.get("web_owner")}
 
 
-@bp.before_request
-def _before():
-    g.web_owner = None
-    if isinstance(session, NullSession) and not request.path.startswith("/web-static/"):
-        # no signing key: it lives in Redis, which did not answer
-        return error_page(503, "the store is not answering, so no session can be "
-                               "opened; try again in a moment")
+def _load_owner():
+    """The session's owner into ``g`` (none if the token was revoked)."""
     sha = session.get("tok")
     if sha:
         owner = owner_of_token_hash(sha)
@@ -157,6 +153,16 @@ def _before():
         else:
             g.web_owner = owner
             g.owner = owner                # what the API's helpers (owns, ...) read
+
+
+@bp.before_request
+def _before():
+    g.web_owner = None
+    if isinstance(session, NullSession) and not request.path.startswith("/web-static/"):
+        # no signing key: it lives in Redis, which did not answer
+        return error_page(503, "the store is not answering, so no session can be "
+                               "opened; try again in a moment")
+    _load_owner()
     if request.method == "POST":
         sent = request.form.get("csrf", "")
         want = session.get("csrf", "")
@@ -243,6 +249,20 @@ def store_is_down(e: redis.RedisError) -> bool:
     if isinstance(e, _STORE_TROUBLE):
         return True
     return str(e).lstrip().upper().startswith(_TROUBLE_PREFIXES)
+
+
+def app_http_error(e: HTTPException):
+    """The console's error page, with its headers, for an HTTP error the app
+    answers outside every blueprint (an address no route has, a method a
+    route does not take).  The app factory calls it for paths outside /api
+    (``app.extensions["nightjar_html_errors"]``, set in ``_setup``)."""
+    g.web_owner = None
+    if not isinstance(session, NullSession):
+        try:
+            _load_owner()                  # the header shows who is signed in
+        except redis.RedisError:
+            g.web_owner = None
+    return _headers(make_response(_http(e)))
 
 
 @bp.errorhandler(redis.RedisError)
