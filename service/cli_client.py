@@ -246,11 +246,36 @@ def _show_settled(client, bid, as_json, expected=None) -> int:
     return _settle_exit(jobs)
 
 
+def _submit_refused(args, file, text) -> int:
+    """Bad input to submit: the message on stderr, and with --json the
+    object ``prove --json`` prints for a file it cannot read."""
+    from .cli_prove import input_error_record
+    print(text, file=sys.stderr)
+    if args.json:
+        if file is None and len(args.files) == 1 and not args.axioms:
+            file = args.files[0]
+        print(json.dumps(input_error_record(file, text)))
+    return EXIT_INPUT
+
+
 @_guarded
 def cmd_submit(args) -> int:
+    from worker.syntax.errors import InputError
+
+    from .client import ApiError
     client = _client(args)
-    sub = client.submit_files(args.files, axioms=args.axioms, time_limit=args.time_limit,
-                              label=args.label, strategy=args.strategy, reuse=args.reuse)
+    try:
+        sub = client.submit_files(args.files, axioms=args.axioms,
+                                  time_limit=args.time_limit, label=args.label,
+                                  strategy=args.strategy, reuse=args.reuse)
+    except InputError as e:                              # found on this side
+        return _submit_refused(args, e.span.file if e.span else None, e.render())
+    except ApiError as e:                                # found by the service
+        if e.code != "input_error" and e.status not in (400, 413):
+            raise
+        text = (e.error.get("text") or e.error.get("message") if e.code == "input_error"
+                else f"nightjar: {e}")
+        return _submit_refused(args, e.error.get("file"), text)
     bid = sub["batch"]
     if not args.wait:
         if args.json:

@@ -43,6 +43,15 @@ def register(subparsers) -> None:
     p.set_defaults(func=run_prove)
 
 
+def input_error_record(file: str | None, text: str) -> dict:
+    """The JSON object of a file that could not be read (``text``: the
+    rendered error), in the shape of a verdict line; ``prove --json`` and
+    ``submit --json`` print it."""
+    return {"file": file, "conjecture": None, "status": V.INPUT_ERROR, "seconds": 0.0,
+            "strategy": None, "axioms_used": [], "proof": None, "model": None,
+            "certificate": V.certificate("none"), "reason": text}
+
+
 def _format_model(model) -> str:
     from worker.models.display import format_model
     return format_model(model)
@@ -101,11 +110,7 @@ def run_prove(args) -> int:
         except InputError as e:
             print(e.render(), file=sys.stderr)
             if args.json:
-                print(json.dumps({"file": path, "conjecture": None,
-                                  "status": V.INPUT_ERROR, "seconds": 0.0,
-                                  "strategy": None, "axioms_used": [], "proof": None,
-                                  "model": None, "certificate": V.certificate("none"),
-                                  "reason": e.render()}))
+                print(json.dumps(input_error_record(path, e.render())))
             code = EXIT_INPUT
             continue
         for conj in problem.obligations():

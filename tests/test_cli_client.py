@@ -335,3 +335,37 @@ def test_submit_names_a_bad_file_as_given_when_the_service_finds_it(
     code = cli.main(["submit", "../other/c.nj", "--axioms", "../other/ax.nj"])
     err = capsys.readouterr().err
     assert code == 1 and err.startswith("../other/ax.nj:2:1: error: the axioms hold")
+
+
+def test_submit_json_prints_the_input_error_object_prove_json_prints(
+        tmp_path, monkeypatch, capsys):
+    (tmp_path / "bad").mkdir()
+    (tmp_path / "bad" / "unclosed.nj").write_text("axiom a: p(c)\nconjecture g: (p(c)\n")
+    monkeypatch.chdir(tmp_path)
+    monkeypatch.setenv("NIGHTJAR_SERVER", "http://127.0.0.1:9")   # never reached
+    assert cli.main(["prove", "--json", "bad/unclosed.nj"]) == 1
+    proved = capsys.readouterr()
+    assert cli.main(["submit", "--json", "bad/unclosed.nj"]) == 1
+    out, err = capsys.readouterr()
+    rec = json.loads(out)
+    assert rec == json.loads(proved.out)
+    assert rec["status"] == "InputError" and rec["file"] == "bad/unclosed.nj"
+    assert rec["reason"].startswith("bad/unclosed.nj:2:") and err == proved.err
+
+
+def test_submit_json_prints_the_services_input_error_as_an_object(
+        service, tmp_path, monkeypatch, capsys):
+    (tmp_path / "ax.nj").write_text("axiom a: p(c)\nconjecture stray: p(c)\n")
+    (tmp_path / "c.nj").write_text("conjecture g: p(c)\n")
+    monkeypatch.chdir(tmp_path)
+    assert cli.main(["submit", "--json", "c.nj", "--axioms", "ax.nj"]) == 1
+    out, err = capsys.readouterr()
+    rec = json.loads(out)
+    assert rec["status"] == "InputError" and rec["file"] == "ax.nj"
+    assert rec["reason"] == err.strip() and err.startswith("ax.nj:2:1: error:")
+    # a refusal without a place (a time limit over the service's): still an object
+    assert cli.main(["submit", "--json", "c.nj", "--time-limit", "1e9"]) == 1
+    out, err = capsys.readouterr()
+    rec = json.loads(out)
+    assert rec["status"] == "InputError" and rec["file"] == "c.nj"
+    assert "time_limit" in rec["reason"] and rec["reason"] == err.strip()
