@@ -251,3 +251,14 @@ def test_a_malformed_character_escape_is_an_input_error_at_the_escape():
             raise AssertionError(bad)
     # a backslash before other letters still just drops the backslash
     assert parse_text("axiom s: p('\\u\\x')").statements[0].formula == Atom(("p", "ux"))
+
+
+def test_a_left_operand_of_the_same_operator_keeps_its_parentheses():
+    """Associativity prints as people write it, and reads back the same."""
+    text = "axiom assoc: forall x y z. (x * y) * z = x * (y * z)\n" \
+           "axiom mixed: forall x y z. (x + y) + z = x * y + z * (x + y)\n"
+    p = parse_text(text, "t.nj")
+    printed = format_problem(p)
+    assert "(x * y) * z = x * (y * z)" in printed
+    assert "(x + y) + z = x * y + z * (x + y)" in printed
+    roundtrip(p)

@@ -1,8 +1,10 @@
 """Printing terms, literals, clauses, formulas and problems in the native
 notation.  What this prints, the native reader reads back to the same thing.
 
-Infix operators ``*`` (binds tighter) and ``+`` are printed infix and left
-associative; everything else prints as ``f(a, b)``.
+Infix operators ``*`` (binds tighter) and ``+`` are printed infix and read
+left associative; a left operand of the same operator is printed in
+parentheses all the same (``(x * y) * z``); everything else prints as
+``f(a, b)``.
 
 Names that are not native identifiers (a letter or ``_`` then letters, digits,
 ``_``; or a run of digits), reserved words, and symbol names that coincide
@@ -83,7 +85,11 @@ def format_term(t, names: dict | None = None, _ctx: int = 0, _bound=None) -> str
     f = t[0]
     if f in INFIX and len(t) == 3:
         p = INFIX[f]
-        left = format_term(t[1], names, p, _bound)        # left associative
+        # left associative, but a left operand of the same operator keeps its
+        # parentheses: (x * y) * z, which is how people write associativity
+        a = t[1]
+        same = type(a) is tuple and len(a) == 3 and a[0] == f
+        left = format_term(a, names, p + 1 if same else p, _bound)
         right = format_term(t[2], names, p + 1, _bound)
         s = f"{left} {f} {right}"
         return f"({s})" if p < _ctx else s
