@@ -345,9 +345,9 @@ def cmd_status(args) -> int:
             ("seconds", "-" if j.get("seconds") is None else f"{j['seconds']:.3f}"),
             ("strategy", j.get("strategy") or "-"), ("attempts", j.get("attempts")),
             ("worker", j.get("worker") or "-"), ("time limit", f"{j['time_limit']:g}s")]
-    cert = j.get("certificate") or {}
-    if cert:
-        rows.append(("certificate", f"{cert.get('kind')}: {cert.get('detail', '')}".strip()))
+    if j.get("certificate"):
+        from .cli_prove import certificate_text
+        rows.append(("certificate", certificate_text(j["certificate"])))
     if j.get("reason"):
         rows.append(("reason", j["reason"]))
     for k in ("submitted", "started", "finished"):
@@ -379,12 +379,15 @@ def _proof_or_model(client, jid):
     return "none", p
 
 
-def _print_proof(kind, answer):
+def _print_proof(kind, answer, cert=None):
     if kind == "proof":
         print(answer["text"] or json.dumps(answer["proof"], indent=1))
     else:
         print(f"# no proof: the verdict is {answer['verdict']}; a countermodel:")
         print(answer["text"] or json.dumps(answer["model"], indent=1))
+    if cert:
+        from .cli_prove import certificate_text
+        print(f"  certificate: {certificate_text(cert)}")
 
 
 def _batch_proofs(client, bid, as_json) -> int:
@@ -408,7 +411,7 @@ def _batch_proofs(client, bid, as_json) -> int:
         if kind == "none":
             print(f"no proof or model ({what})")
         else:
-            _print_proof(kind, answer)
+            _print_proof(kind, answer, j.get("certificate"))
     return code
 
 
@@ -419,10 +422,13 @@ def cmd_proof(args) -> int:
         return _batch_proofs(client, args.id, args.json)
     kind, answer = _proof_or_model(client, args.id)
     if kind != "none":
+        j = client.job(args.id)
         if args.json:
-            print(json.dumps(answer))
+            print(json.dumps(dict(answer, certificate=j.get("certificate"))))
         else:
-            _print_proof(kind, answer)
+            print(f"# {j['file']}: conjecture {j['conjecture'] or '-'}: "
+                  f"{j.get('verdict') or j['state']} (job {j['id']})")
+            _print_proof(kind, answer, j.get("certificate"))
         return EXIT_OK
     if args.json:
         print(json.dumps(answer))

@@ -77,15 +77,20 @@ def _human(path: str, res: dict) -> str:
         lines.append("    " + _format_model(res["model"]).replace("\n", "\n    "))
     if res.get("reason") and res["status"] not in (V.THEOREM, V.UNSATISFIABLE):
         lines.append(f"  why: {res['reason']}")
-    cert = res.get("certificate") or {}
+    lines.append(f"  certificate: {certificate_text(res.get('certificate'))}")
+    return "\n".join(lines)
+
+
+def certificate_text(cert: dict | None) -> str:
+    """What was checked, in words (prove, status and proof say it alike)."""
+    cert = cert or {}
     kind = cert.get("kind", "none")
     n = cert.get("checked", 0)
     text = {"proof-replayed": f"proof replayed, {n} step{'s' if n != 1 else ''} checked",
             "model-evaluated": f"model evaluated, {n} formula{'s' if n != 1 else ''} checked",
             "failed": f"CHECK FAILED: {cert.get('detail', '')}",
             "none": "nothing checked" + (f" ({cert['detail']})" if cert.get("detail") else "")}
-    lines.append(f"  certificate: {text.get(kind, kind)}")
-    return "\n".join(lines)
+    return text.get(kind, kind)
 
 
 def run_prove(args) -> int:

@@ -369,3 +369,20 @@ def test_submit_json_prints_the_services_input_error_as_an_object(
     rec = json.loads(out)
     assert rec["status"] == "InputError" and rec["file"] == "c.nj"
     assert "time_limit" in rec["reason"] and rec["reason"] == err.strip()
+
+
+def test_proof_of_one_job_names_it_and_says_what_was_checked(service, capsys):
+    sub = _submit(service, ["t1", "m1"])
+    service.run()
+    t1, m1 = (j["id"] for j in sub["jobs"])
+    assert cli.main(["proof", t1]) == 0
+    out = capsys.readouterr().out.splitlines()
+    assert out[0] == f"# f0.nj: conjecture t1: Theorem (job {t1})"
+    assert out[-1] == "  certificate: proof replayed, 1 step checked"
+    assert cli.main(["proof", m1]) == 0
+    assert capsys.readouterr().out.splitlines()[-1] == \
+        "  certificate: model evaluated, 1 formula checked"
+    assert cli.main(["proof", t1, "--json"]) == 0
+    assert json.loads(capsys.readouterr().out)["certificate"]["kind"] == "proof-replayed"
+    assert cli.main(["status", t1]) == 0
+    assert "certificate  proof replayed, 1 step checked" in capsys.readouterr().out
