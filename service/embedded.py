@@ -240,8 +240,6 @@ def serve(*, home: Path | None = None, config: Config | None = None,
           workers: int | None = None, quiet: bool = False,
           threads: int = 8) -> int:
     """Run the service until Ctrl-C / SIGTERM; returns an exit code."""
-    from waitress.server import create_server
-
     from .app import create_app
 
     home = Path(home or home_dir())
@@ -288,8 +286,7 @@ def serve(*, home: Path | None = None, config: Config | None = None,
         sweeper = Sweeper(redis_url, config)
         sweeper.start()
         app = create_app(config, r)
-        server = create_server(app, host=host, port=port, threads=threads,
-                               ident="nightjar")
+        server = bind_server(app, home, host, port, threads)
         real_port = server.effective_port
         url = f"http://{host}:{real_port}"
         _write_private(server_file(home), json.dumps({
@@ -321,6 +318,32 @@ def serve(*, home: Path | None = None, config: Config | None = None,
             rp.stop()
         say("nightjar: stopped")
     return 0
+
+
+def bind_server(app, home: Path, host: str, port: int, threads: int = 8):
+    """The waitress server for ``serve``.  Without a port asked for, the one
+    of the last start of this home is taken again when it is free (so the
+    address people bookmarked in the console stays), else any free one; the
+    port bound is remembered in ``$NIGHTJAR_HOME/port``."""
+    from waitress.server import create_server
+    remembered = home / "port"
+    want = port
+    if not want:
+        try:
+            want = int(remembered.read_text().strip())
+        except (OSError, ValueError):
+            want = 0
+    try:
+        server = create_server(app, host=host, port=want, threads=threads, ident="nightjar")
+    except OSError:
+        if port:                  # the port asked for is taken: say so, as before
+            raise
+        server = create_server(app, host=host, port=0, threads=threads, ident="nightjar")
+    try:
+        remembered.write_text(f"{server.effective_port}\n")
+    except OSError:
+        pass
+    return server
 
 
 def start_in_background(home: Path, timeout: float = 60.0, workers: int | None = None,
