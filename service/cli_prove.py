@@ -87,7 +87,8 @@ def certificate_text(cert: dict | None) -> str:
     kind = cert.get("kind", "none")
     n = cert.get("checked", 0)
     text = {"proof-replayed": f"proof replayed, {n} step{'s' if n != 1 else ''} checked",
-            "model-evaluated": f"model evaluated, {n} formula{'s' if n != 1 else ''} checked",
+            "model-evaluated": f"model evaluated, {n} formula{'s' if n != 1 else ''} checked"
+                               + (f": {cert['detail']}" if cert.get("detail") else ""),
             "failed": f"CHECK FAILED: {cert.get('detail', '')}",
             "none": "nothing checked" + (f" ({cert['detail']})" if cert.get("detail") else "")}
     return text.get(kind, kind)

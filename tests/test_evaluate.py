@@ -52,6 +52,22 @@ def test_s3_passes_as_a_counterexample_to_commutativity():
     assert rep.checked == 4 and rep.failing_step is None
 
 
+def test_the_report_names_where_the_conjecture_fails():
+    """The first x, y with x * y != y * x in S3, named in the report; checked
+    against the table itself."""
+    import re
+    p = parse_text(GROUP, "g.nj")
+    model = s3_model()
+    rep = check_model(model, p, "comm")
+    m = re.search(r"fails \(for x = (\d+), y = (\d+)\)", rep.detail)
+    assert rep.ok and m, rep.detail
+    x, y = int(m.group(1)), int(m.group(2))
+    mul = {tuple(a): v for a, v in model["functions"]["*"]["values"]}
+    assert mul[(x, y)] != mul[(y, x)]
+    assert all(mul[(a, b)] == mul[(b, a)] for a in range(6) for b in range(6)
+               if (a, b) < (x, y))            # and it is the first such pair
+
+
 def test_a_model_where_the_conjecture_holds_is_refused():
     p = parse_text(GROUP, "g.nj")
     rep = check_model(z2_model(), p, "comm")

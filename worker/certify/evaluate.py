@@ -88,9 +88,10 @@ def _compiler(tables: _Tables) -> Compiler:
 MAX_COUNTEREXAMPLE_TRIES = 100_000
 
 
-def _counterexample(formula, comp, n, varnames):
+def _counterexample(formula, comp, n, varnames, el=str):
     """For a failing ``forall x... body``, the first values that falsify it
-    ("" when there are too many assignments to try)."""
+    ("" when there are too many assignments to try); ``el`` writes a domain
+    element as the model display does."""
     if not (isinstance(formula, Quant) and formula.kind == "forall"):
         return ""
     used = set(free_and_max(formula.body)[0])
@@ -104,7 +105,7 @@ def _counterexample(formula, comp, n, varnames):
         for v, d in zip(vs, values):
             env[v] = d
         if not body(env):
-            shown = ", ".join(f"{varnames.get(v, f'X{v}')} = {d}" for v, d in zip(vs, values))
+            shown = ", ".join(f"{varnames.get(v, f'X{v}')} = {el(d)}" for v, d in zip(vs, values))
             return f" (for {shown})"
     return ""
 
@@ -118,8 +119,13 @@ def check_model(model, problem, conjecture) -> CheckReport:
     except ModelError as e:
         return CheckReport(False, 0, f"malformed model: {e}")
     comp = _compiler(tables)
+    # elements written as the model display writes them (#1 where the
+    # problem has constants named by numerals)
+    numerals = any(str(f).isdigit() for f in (model.get("functions") or {}))
+    el = (lambda d: f"#{d}") if numerals else str
     checked = 0
     seen_conj = conjecture is None
+    fails_at = ""
     for index, st in enumerate(problem.statements):
         is_target = st.role == "conjecture" and st.name == conjecture
         if st.role == "conjecture" and not is_target:
@@ -139,13 +145,14 @@ def check_model(model, problem, conjecture) -> CheckReport:
                 return CheckReport(False, checked,
                                    f"the conjecture {st.name} holds in the model, "
                                    f"so the model is no counterexample", index)
+            fails_at = _counterexample(formula, comp, tables.n, st.varnames or {}, el)
         elif not value:
-            why = _counterexample(formula, comp, tables.n, st.varnames or {})
+            why = _counterexample(formula, comp, tables.n, st.varnames or {}, el)
             return CheckReport(False, checked,
                                f"{st.role} {st.name} is false in the model{why}", index)
     if not seen_conj:
         return CheckReport(False, checked, f"no conjecture named {conjecture} in the problem")
     n_ax = checked - (1 if conjecture is not None else 0)
-    what = (f"{n_ax} statement(s) hold and the conjecture {conjecture} fails"
+    what = (f"{n_ax} statement(s) hold and the conjecture {conjecture} fails{fails_at}"
             if conjecture is not None else f"all {n_ax} statement(s) hold")
     return CheckReport(True, checked, f"{what} in a model of size {tables.n}")
