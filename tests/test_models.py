@@ -672,3 +672,12 @@ def test_a_solve_gives_up_at_its_deadline_even_without_the_interrupt(deaf, monke
         assert sat.solve([], time.monotonic() + 0.3) is None     # not settled: gave up
     finally:
         sat.delete()
+
+
+def test_constants_are_listed_in_natural_order():
+    """b2 before b10, as a person numbers things."""
+    from worker.models.display import format_model
+    funs = {f"b{k}": {"arity": 0, "values": [[[], 0]]} for k in (10, 2, 1, 11)}
+    text = format_model({"size": 1, "functions": funs, "predicates": {}})
+    order = [ln.split("=")[0].strip() for ln in text.splitlines() if ln.strip().startswith("b")]
+    assert order == ["b1", "b2", "b10", "b11"], text

@@ -17,6 +17,13 @@ from __future__ import annotations
 _INFIX = {"*", "+"}
 
 
+def natural(name: str):
+    """Sort key that puts b2 before b10 (runs of digits compared as numbers)."""
+    import re
+    return [(0, int(p), "") if p.isdigit() else (1, 0, p)
+            for p in re.split(r"(\d+)", str(name)) if p]
+
+
 def _table(tab):
     """{args tuple: value} from the JSON value list."""
     return {tuple(args): v for args, v in tab.get("values", ())}
@@ -64,14 +71,14 @@ def format_model(model) -> str:
                    f"{'is a constant' if len(numeral_names) == 1 else 'are constants'} "
                    f"of the problem)")
 
-    consts = sorted(f for f, t in funs.items() if t["arity"] == 0)
+    consts = sorted((f for f, t in funs.items() if t["arity"] == 0), key=natural)
     if consts:
         out.append("")
         w = max(len(c) for c in consts)
         for c in consts:
             out.append(f"{c.ljust(w)} = {el(_table(funs[c]).get(()))}")
 
-    for f in sorted(f for f, t in funs.items() if t["arity"] > 0):
+    for f in sorted((f for f, t in funs.items() if t["arity"] > 0), key=natural):
         tab, k = _table(funs[f]), funs[f]["arity"]
         out.append("")
         if k == 1:
@@ -87,7 +94,7 @@ def format_model(model) -> str:
             for args in sorted(tab):
                 out.append(f"  {_fname(f, args, el)} = {el(tab[args])}")
 
-    for p in sorted(preds):
+    for p in sorted(preds, key=natural):
         tab, k = _table(preds[p]), preds[p]["arity"]
         out.append("")
         if k == 0:
