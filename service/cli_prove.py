@@ -67,8 +67,12 @@ def _human(path: str, res: dict) -> str:
         lines.append("  WARNING: THE AXIOMS CONTRADICT EACH OTHER. The proof below never "
                      "uses the conjecture: every statement whatsoever follows from "
                      "these axioms. Fix the axioms before trusting any verdict on them.")
-    lines.append(f"  strategy {res.get('strategy') or '-'}; given {figs.get('given', 0)}, "
-                 f"generated {figs.get('generated', 0)}, kept {figs.get('kept', 0)}")
+    if figs.get("given", 0) or figs.get("generated", 0):
+        lines.append(f"  strategy {res.get('strategy') or '-'}; given {figs.get('given', 0)}, "
+                     f"generated {figs.get('generated', 0)}, kept {figs.get('kept', 0)}")
+    else:
+        lines.append(f"  strategy {res.get('strategy') or '-'} (settled before any "
+                     f"saturation step)")
     if res.get("proof"):
         lines.append("  proof:")
         lines.append(format_proof(res["proof"]))

@@ -82,3 +82,18 @@ def test_strategy_and_equality_options(tmp_path, capsys):
     if line["proof"]:
         assert any(s["rule"] == "equality_axiom" for s in line["proof"]["steps"])
     assert main(["prove", f, "--strategy", "nonsense"]) == 2
+
+
+def test_a_verdict_settled_without_saturation_does_not_list_empty_figures(tmp_path, capsys):
+    """A countermodel found by the first model-search slice: no 'given 0,
+    generated 0, kept 0' line, which reads as if the search did nothing."""
+    from service import cli
+    f = tmp_path / "nc.nj"
+    f.write_text("axiom left_identity: forall x. e * x = x\n"
+                 "axiom left_inverse: forall x. i(x) * x = e\n"
+                 "axiom associativity: forall x y z. (x * y) * z = x * (y * z)\n"
+                 "conjecture commutes: forall x y. x * y = y * x\n")
+    assert cli.main(["prove", str(f)]) == 0
+    out = capsys.readouterr().out
+    assert "CounterSatisfiable" in out and "given 0" not in out
+    assert "strategy model-search (settled before any saturation step)" in out
