@@ -18,7 +18,8 @@ from .saturation.loop import Saturation
 from .saturation.proof import extract
 
 _SUM = ("given", "generated", "kept", "demodulations", "forward_subsumed",
-        "backward_deleted", "subsumption_resolutions", "tautologies", "cpu_seconds")
+        "backward_deleted", "subsumption_resolutions", "tautologies", "repeats",
+        "cpu_seconds")
 
 
 def _model_search(cp, settings):
