@@ -122,13 +122,14 @@ def describe_step(st: dict) -> str:
     sub = _subst_text(st.get("subst") or {}, ps, st.get("offsets"))
     lits = st.get("lits") or []
     if rule == "superposition" or rule == "demodulation":
-        how = "rewrite" if rule == "demodulation" else "superposition"
+        how = rule            # the rule's own name, as the console and the checker say it
         return (f"{how}: {ps[0]} into {ps[1]} at literal {lits[1] + 1}, "
                 f"position {_pos(st.get('position'))}{sub}")
     if rule == "resolution":
         return f"resolution of {ps[0]} and {ps[1]} on literals {lits[0] + 1}, {lits[1] + 1}{sub}"
     if rule == "subsumption_resolution":
-        return f"cut literal {lits[1] + 1} of {ps[1]} with {ps[0]}{sub}"
+        return (f"subsumption resolution: literal {lits[1] + 1} of {ps[1]} cut "
+                f"with {ps[0]}{sub}")
     if rule == "factoring":
         return f"factoring {ps[0]} on literals {lits[0] + 1}, {lits[1] + 1}{sub}"
     if rule == "equality_resolution":
