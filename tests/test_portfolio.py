@@ -123,3 +123,19 @@ def test_memory_exhausted_in_model_search_reports_memory_out(monkeypatch):
                         time.monotonic() + 1)
     assert out["outcome"] == "limit" and out["limit"] == "memory", out["reason"]
     assert "memory" in out["reason"]
+
+
+def test_a_timeout_says_which_model_sizes_were_excluded():
+    """Time spent in the model search is not lost on a Timeout: the reason
+    says up to which size there is no countermodel.  (A strict order without
+    a greatest element has only infinite models: common practice.)"""
+    from worker import verdict as V
+    from worker.pipeline import decide
+    from worker.syntax import parse_text
+    p = parse_text("axiom irreflexive: forall x. not lt(x, x)\n"
+                   "axiom transitive: forall x y z. lt(x, y) and lt(y, z) implies lt(x, z)\n"
+                   "axiom unbounded: forall x. exists y. lt(x, y)\n"
+                   "conjecture bogus: lt(c, d)\n", "t.nj")
+    res = decide(p, "bogus", V.Settings(limits=V.Limits(time=2.0)))
+    assert res["status"] == V.TIMEOUT
+    assert "no countermodel of size 1 to " in res["reason"], res["reason"]

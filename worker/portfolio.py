@@ -232,8 +232,17 @@ def run(cp, settings, deadline: float) -> dict:
         for k in _SUM:
             figs[k] = round(totals[k], 4) if k == "cpu_seconds" else totals[k]
         figs["strategies_tried"] = len(tried)
+        if out.get("outcome") == "limit" and ms is not None:
+            # what the time bought on the other side: the sizes without a model
+            done = sorted(getattr(ms, "sizes_excluded", ()))
+            k = 0
+            while k < len(done) and done[k] == k + 1:
+                k += 1
+            if k:
+                what = "countermodel" if cp.conjecture is not None else "model"
+                notes.append(f"no {what} of size {'1' if k == 1 else '1 to ' + str(k)} exists")
         if notes:
-            out["reason"] = ((out.get("reason") or "") + " (" + "; ".join(notes) + ")").strip()
+            out["reason"] = "; ".join([r for r in [out.get("reason") or ""] if r] + notes)
         figs["seconds"] = round(time.monotonic() - t0, 4)
         out["figures"] = figs
         return out
@@ -342,7 +351,8 @@ def run(cp, settings, deadline: float) -> dict:
         last = dict(last, outcome="limit", limit="time", complete=False,
                     reason="time limit reached")
     if fallback is not None and last["outcome"] == "limit" and last["limit"] == "time":
-        last["reason"] = "time limit reached (one strategy saturated, but it was incomplete)"
+        last["reason"] = ("time limit reached; a set-of-support strategy ran out of "
+                          "inferences, which proves nothing")
     if memory_hit and last["outcome"] == "limit" and last["limit"] == "time":
         last = dict(last, limit="memory",
                     reason="memory limit reached in the model search; the proof "
