@@ -84,10 +84,14 @@ def test_strategy_and_equality_options(tmp_path, capsys):
     assert main(["prove", f, "--strategy", "nonsense"]) == 2
 
 
-def test_a_verdict_settled_without_saturation_does_not_list_empty_figures(tmp_path, capsys):
-    """A countermodel found by the first model-search slice: no 'given 0,
-    generated 0, kept 0' line, which reads as if the search did nothing."""
+def test_a_verdict_settled_without_saturation_does_not_list_empty_figures(tmp_path, capsys,
+                                                                         monkeypatch):
+    """A countermodel found by the first model-search slice, no saturation
+    probe before it: no 'given 0, generated 0, kept 0' line, which reads as if
+    the search did nothing."""
+    import worker.portfolio as P
     from service import cli
+    monkeypatch.setattr(P, "PROBE_SECONDS", 0.0)
     f = tmp_path / "nc.nj"
     f.write_text("axiom left_identity: forall x. e * x = x\n"
                  "axiom left_inverse: forall x. i(x) * x = e\n"

@@ -36,6 +36,10 @@ def _model_search(cp, settings):
 # claimed for domain-closure clauses of at most this many constants, and only
 # when the checker's exhaustive evaluation stays under its cap (the same
 # figure as worker.certify.proofcheck.FINITE_DOMAIN_CAP).
+# The probe of the first strategy before the model search's first slice:
+# at most this many seconds (and 2 % of the budget).
+PROBE_SECONDS = 0.1
+
 FINITE_DOMAIN_MAX_BOUND = 4
 FINITE_DOMAIN_CAP = 300_000
 
@@ -306,6 +310,31 @@ def run(cp, settings, deadline: float) -> dict:
         plan = [(S.get(n), share) for n, share in S.DEFAULT_SCHEDULE]
 
     budget = max(0.0, deadline - time.monotonic())
+    if PROBE_SECONDS > 0 and ms is not None and not getattr(ms, "exhausted", False):
+        # a short probe of the first strategy before the model search's first
+        # slice: an easy theorem is answered at once instead of waiting for
+        # that slice (up to half a second) to run out
+        strat0 = plan[0][0]
+        out = run_strategy(cp, strat0, min(deadline, time.monotonic()
+                                           + min(PROBE_SECONDS, 0.02 * budget)),
+                           equality=settings.equality, cpu_deadline=cpu_deadline,
+                           memory_mb=lim.memory_mb, max_clauses=lim.max_clauses)
+        for key in _SUM:
+            totals[key] += out["figures"].get(key, 0)
+        if out["outcome"] == "refutation":
+            tried.append(strat0.name)
+            return finish(out)
+        if out["outcome"] == "saturated" and out["complete"]:
+            # satisfiable: a model would be a checked answer, saturation is not;
+            # the model search gets its first slice to find one
+            got = model_slice(min(0.5, 0.05 * budget))
+            if got:
+                return got
+            tried.append(strat0.name)
+            return finish(out)
+        if out["outcome"] == "limit" and out["limit"] == "memory":
+            tried.append(strat0.name)
+            return finish(out)
     got = model_slice(min(0.5, 0.05 * budget))
     if got:
         return got
