@@ -61,12 +61,17 @@ def _uncap(soft) -> None:
     (serialising, compressing, the Redis round trip) cannot itself run out of
     memory: a horse that met its cap may still hold most of it, in freed but
     unreturned arenas.  Raising a soft limit back up to the hard one needs no
-    privilege."""
+    privilege.  The search's garbage is collected first only when the limit
+    restored is itself finite (then it could still count against it): with
+    no limit to go back to there is nothing to make room for, and a full
+    collection in a fresh horse costs more than a trivial job (it walks, and
+    so copies, the pages of every object the worker made after its freeze)."""
     if soft is None:
         return
-    import gc
     import resource
-    gc.collect()
+    if soft != resource.RLIM_INFINITY:
+        import gc
+        gc.collect()
     resource.setrlimit(resource.RLIMIT_AS, (soft, resource.getrlimit(resource.RLIMIT_AS)[1]))
 
 
