@@ -13,7 +13,7 @@ from service import corpus as C
 from service.app import create_app
 from service.config import Config
 from service.store import Store
-from tests.test_web_pages import Console
+from tests.test_web_pages import Console, corpus_run
 
 SUITE = """\
 [suite]
@@ -54,12 +54,7 @@ def write(root, routes):
 
 
 def run(e, path):
-    body = C.submission(C.load_suite(str(path)))
-    resp = e.app.test_client().post("/api/corpus/runs", json=body,
-                                    headers={"Authorization": f"Bearer {e.alice}"})
-    assert resp.status_code == 202, resp.get_data(as_text=True)
-    e.run_all()
-    return resp.get_json()["run"]
+    return corpus_run(e, e.alice, path)
 
 
 def section(page, name):
