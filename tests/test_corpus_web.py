@@ -9,7 +9,6 @@ from __future__ import annotations
 import fakeredis
 import pytest
 
-from service import corpus as C
 from service.app import create_app
 from service.config import Config
 from service.store import Store
