@@ -707,9 +707,13 @@ class _Checker:
         if type(used) is not list or set(used) != self.inputs_used or len(set(used)) != len(used):
             raise Refused(f"the proof lists axioms_used {used!r}, but its input "
                           f"steps use {sorted(self.inputs_used)!r}")
-        rules = ", ".join(f"{k} {v}" for k, v in sorted(self.rule_counts.items()))
-        spot = (f"; {self.spot_checked} of the input clauses also evaluated in "
-                f"small models of their statements" if self.spot_checked else "")
+        rules = ", ".join(f"{k.replace('_', ' ')} {v}"
+                          for k, v in sorted(self.rule_counts.items()))
+        n = self.spot_checked
+        spot = (f"; the clausification of {n} input clause{'s' if n != 1 else ''} "
+                f"cross-checked by evaluation (each holds in the one-element "
+                f"and, without Skolem symbols, two-element models of its "
+                f"statement)" if n else "")
         return CheckReport(True, len(steps), f"{len(steps)} steps replayed ({rules}){spot}"
                                              f"{self.finite_detail}")
 
