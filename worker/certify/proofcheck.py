@@ -712,8 +712,8 @@ class _Checker:
         n = self.spot_checked
         spot = (f"; the clausification of {n} input clause{'s' if n != 1 else ''} "
                 f"cross-checked by evaluation (each holds in the one-element "
-                f"and, without Skolem symbols, two-element models of its "
-                f"statement)" if n else "")
+                f"models of its statement, and in the two-element ones when it "
+                f"has no Skolem symbol and they are few)" if n else "")
         return CheckReport(True, len(steps), f"{len(steps)} steps replayed ({rules}){spot}"
                                              f"{self.finite_detail}")
 
