@@ -362,6 +362,13 @@ def test_countermodel_tables(env):
     assert "<code>e</code>" in page                              # constant
     assert 'aria-label="truth grid of q' in page                 # binary predicate grid
     assert page.count('class="tv-t"') >= size                    # q(e, y) holds for every y
+    # where the conjecture fails, named on the page and true of the table
+    m = re.search(r'<span id="fails-at">for x = (\d+), y = (\d+)</span>', page)
+    assert m, page
+    mul = {tuple(a): v for a, v in
+           env.store.get_result(comm)["model"]["functions"]["*"]["values"]}
+    x, y = int(m.group(1)), int(m.group(2))
+    assert mul[(x, y)] != mul[(y, x)]
 
 
 def test_upload_files_and_shared_axioms(env):

@@ -20,6 +20,7 @@ import hmac
 import json
 import math
 import os
+import re
 import secrets
 from datetime import datetime, timezone
 from urllib.parse import urlencode
@@ -885,8 +886,12 @@ def model(jid):
     m = svc().store.get_result(jid).get("model")
     if m is None:
         abort(404, A.no_model_message(rec))
+    # where the conjecture fails, as the evaluator found it ("for x = 1, y = 2")
+    detail = (rec.get("certificate") or {}).get("detail") or ""
+    found = re.search(r"fails \((for [^)]*)\)", detail)
     return render_template("model.html", j=rec, name=_name(rec), mv=model_view(m),
-                           text=A.format_model_text(m))
+                           text=A.format_model_text(m),
+                           fails_at=found.group(1) if found else None)
 
 
 # =================================================================== submit
