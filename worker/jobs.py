@@ -56,20 +56,21 @@ def _cap_memory(mb: int | None):
     return soft
 
 
-def _uncap(soft) -> None:
+def _uncap(soft, met_cap: bool = True) -> None:
     """Lift the cap once the search is over, so that writing the verdict
     (serialising, compressing, the Redis round trip) cannot itself run out of
     memory: a horse that met its cap may still hold most of it, in freed but
     unreturned arenas.  Raising a soft limit back up to the hard one needs no
-    privilege.  The search's garbage is collected first only when the limit
-    restored is itself finite (then it could still count against it): with
-    no limit to go back to there is nothing to make room for, and a full
-    collection in a fresh horse cost 1 to 8 ms per job (it walks, and so
-    copies, the pages of every object the worker made after its freeze)."""
+    privilege.  The search's garbage is collected first when the search met
+    the cap (``met_cap``: a MemoryOut) or the limit restored is itself finite
+    (then the garbage could still count against it).  Otherwise there is
+    nothing to make room for, and a full collection in a fresh horse cost 1
+    to 8 ms per job (it walks, and so copies, the pages of every object the
+    worker made after its freeze)."""
     if soft is None:
         return
     import resource
-    if soft != resource.RLIM_INFINITY:
+    if met_cap or soft != resource.RLIM_INFINITY:
         import gc
         gc.collect()
     resource.setrlimit(resource.RLIMIT_AS, (soft, resource.getrlimit(resource.RLIMIT_AS)[1]))
@@ -178,7 +179,7 @@ def attempt(job_id: str, *, connection=None) -> str:
             else:
                 result = _result(V.ERROR, f"internal error: {type(e).__name__}: {e}",
                                  conjecture=rec.get("conjecture"))
-        _uncap(capped)
+        _uncap(capped, met_cap=result["status"] == V.MEMORY_OUT)
         capped = None
         written = _retrying(store.finish, job_id, n, result)
     finally:
