@@ -28,9 +28,33 @@ RQ_RESULT_TTL = 600          # RQ's own copy of a return value; ours lasts
 RQ_FAILURE_TTL = 24 * 3600
 
 
+def _handshake_options() -> dict:
+    """Connection options that leave out the handshake commands we have no
+    use for: the client library's name and version (CLIENT SETINFO, two
+    round trips) and the maintenance-notification opt-in (one more; it is
+    for managed clusters that announce their moves).  Every work horse opens
+    a fresh connection, so these were three of a trivial job's round trips."""
+    opts: dict = {}
+    try:
+        import redis.driver_info  # noqa: F401  (newer redis-py)
+        opts["driver_info"] = None
+    except ImportError:
+        opts.update(lib_name=None, lib_version=None)
+    try:
+        from redis.maint_notifications import MaintNotificationsConfig
+        opts["maint_notifications_config"] = MaintNotificationsConfig(enabled=False)
+    except ImportError:
+        pass
+    return opts
+
+
+_HANDSHAKE = _handshake_options()
+
+
 def connect(url: str) -> redis.Redis:
     return redis.Redis.from_url(url, decode_responses=False,
-                                socket_connect_timeout=5, health_check_interval=10)
+                                socket_connect_timeout=5, health_check_interval=10,
+                                **_HANDSHAKE)
 
 
 def rq_id(job_id: str, attempt: int, redispatch: int = 0) -> str:
