@@ -98,6 +98,27 @@ class Bench:
             time.sleep(0.02)
         return time.perf_counter() - t0
 
+    def commandstats(self) -> dict[str, int]:
+        info = connect(self.rp.url).info("commandstats")
+        return {k.removeprefix("cmdstat_"): v["calls"] for k, v in info.items()}
+
+    def count_commands(self, n):
+        """Redis commands per trivial job with one worker: INFO commandstats
+        before and after submitting N jobs, and after they ran (waiting by
+        polling one hash once a second, so the wait adds almost nothing)."""
+        r = connect(self.rp.url)
+        c0 = self.commandstats()
+        sub = self.client.submit({"problems": trivial(n), "time_limit": 30})
+        c1 = self.commandstats()
+        ck = Store.k_counts(sub["batch"])
+        polls = 0
+        while int(r.hget(ck, "done") or 0) < n:
+            polls += 1
+            time.sleep(1.0)
+        c2 = self.commandstats()
+        diff = lambda a, b: {k: b.get(k, 0) - a.get(k, 0) for k in b if b.get(k, 0) != a.get(k, 0)}
+        return diff(c0, c1), diff(c1, c2), polls
+
     def close(self):
         stop_processes(self.workers, timeout=5)
         self.server.close()
@@ -138,6 +159,22 @@ def overhead(b, args):
     print(f"  overhead ratio (service 1 worker / in process): {med(one) / med(local):.2f}")
 
 
+def commands(b, args):
+    n = args.jobs
+    b.set_workers(1)
+    b.run(trivial(5))                      # warm up
+    time.sleep(1.0)
+    submit, run, polls = b.count_commands(n)
+    # the counting itself: INFO x3, HGET per poll; the worker's sweeper
+    # also runs a few commands every 3 s while the batch runs
+    print(f"Redis commands per trivial job (1 worker, {n} jobs):")
+    print(f"  submit (HTTP, one transaction): {sum(submit.values()) / n:6.1f}")
+    print(f"  running them (worker, horses, sweeper): {sum(run.values()) / n:6.1f}"
+          f"  ({polls} polls of the bench included)")
+    for k, v in sorted(run.items(), key=lambda kv: -kv[1]):
+        print(f"    {k:22s} {v / n:6.2f}")
+
+
 def scaling(b, args):
     med = statistics.median
     cpu = [bundle_of(str(ROOT / p), str(ROOT)) for p in CPU_PROBLEMS] * args.cpu_copies
@@ -161,15 +198,17 @@ def main():
     ap.add_argument("--repeat", type=int, default=3)
     ap.add_argument("--cpu-copies", type=int, default=2,
                     help="copies of the CPU-bound problem set in the scaling batch")
-    ap.add_argument("--only", choices=("overhead", "scaling"), help="run one part")
+    ap.add_argument("--only", choices=("overhead", "scaling", "commands"), help="run one part")
     args = ap.parse_args()
     print(f"load average before: {os.getloadavg()[0]:.1f} on {os.cpu_count()} cores")
     with tempfile.TemporaryDirectory(prefix="nj-bench-") as tmp:
         b = Bench(Path(tmp))
         try:
-            if args.only != "scaling":
+            if args.only in (None, "overhead"):
                 overhead(b, args)
-            if args.only != "overhead":
+            if args.only in (None, "commands"):
+                commands(b, args)
+            if args.only in (None, "scaling"):
                 scaling(b, args)
         finally:
             b.close()
