@@ -8,7 +8,9 @@
    obligations one after another in this process.  Prints jobs per second
    both ways and the overhead ratio (service time / in-process time), and the
    service with two workers.
-2. Scaling: a CPU-bound batch (proofs of a second or so from the corpus)
+2. Commands (``--only commands``, also run by default): Redis commands per
+   trivial job with one worker, from INFO commandstats, by command.
+3. Scaling: a CPU-bound batch (proofs of a second or so from the corpus)
    with 1 and with 2 workers; prints the wall times and their ratio.
 
 Every figure is the median of --repeat runs.  A real Redis server (the
