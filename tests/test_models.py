@@ -681,3 +681,33 @@ def test_constants_are_listed_in_natural_order():
     text = format_model({"size": 1, "functions": funs, "predicates": {}})
     order = [ln.split("=")[0].strip() for ln in text.splitlines() if ln.strip().startswith("b")]
     assert order == ["b1", "b2", "b10", "b11"], text
+
+
+def test_the_model_search_stops_short_of_a_memory_cap():
+    """Under an address-space cap it cannot grow into, the model search raises
+    MemoryError itself (which the portfolio answers by dropping it) instead of
+    letting the C++ solver run out of memory and take the process down.  In
+    a child process, so that the cap stays there."""
+    import subprocess
+    import sys
+    code = r'''
+import resource
+from worker.models.search import ModelSearch, near_memory_cap
+from worker.clausify import clausify
+from worker.syntax import parse_text
+p = parse_text("axiom a: forall x y z. (x * y) * z = x * (y * z)\n"
+               "conjecture c: forall x y. x * y = y * x\n", "t.nj")
+cp = clausify(p, "c")
+assert not near_memory_cap()
+vm = int(open("/proc/self/statm").read().split()[0]) * resource.getpagesize()
+resource.setrlimit(resource.RLIMIT_AS, (vm + (40 << 20), resource.RLIM_INFINITY))
+assert near_memory_cap()
+try:
+    ModelSearch(cp, max_size=6).run(None)
+except MemoryError as e:
+    print("stopped:", e)
+'''
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
+                         timeout=120)
+    assert out.returncode == 0, out.stderr
+    assert out.stdout.strip() == "stopped: the model search stopped short of the memory cap"

@@ -20,6 +20,7 @@ import time
 
 import redis
 
+from . import reserve
 from . import verdict as V
 
 _RETRY_SECONDS = 60.0      # how long a write waits for Redis to come back
@@ -136,18 +137,25 @@ def decide_record(store, rec: dict, memory_mb: int | None) -> dict:
     rec = dict(rec, settings=json.loads(raw) if isinstance(raw, str) else (raw or {}))
     conj = rec.get("conjecture") or None
     t0 = time.monotonic()
+    # A MemoryError is answered after its except block: by then its
+    # traceback, and with it every structure of the search, is gone.
+    short = None
     try:
         problem = load_problem(bundle["main"], bundle_reader(bundle["files"]),
                                language=bundle.get("language"))
     except InputError as e:   # refused at submission, so only if the reader changed
         return _result(V.INPUT_ERROR, e.render(), conjecture=conj)
     except MemoryError:
-        return _result(V.MEMORY_OUT, "memory limit reached while reading", conjecture=conj)
+        reserve.release()
+        short = "memory limit reached while reading"
+    if short:
+        return _result(V.MEMORY_OUT, short, conjecture=conj)
     try:
         return decide(problem, conj, settings_for(rec, memory_mb))
     except MemoryError:
-        return _result(V.MEMORY_OUT, "memory limit reached",
-                       round(time.monotonic() - t0, 4), conj)
+        reserve.release()
+    problem = None
+    return _result(V.MEMORY_OUT, "memory limit reached", round(time.monotonic() - t0, 4), conj)
 
 
 def attempt(job_id: str, *, connection=None) -> str:
@@ -167,11 +175,14 @@ def attempt(job_id: str, *, connection=None) -> str:
     beat.start()
     capped = None
     try:
+        result = None
         try:
+            if cfg.memory_mb and _in_work_horse():
+                reserve.hold()
             capped = _cap_memory(cfg.memory_mb)
             result = decide_record(store, rec, cfg.memory_mb)
         except MemoryError:
-            result = _result(V.MEMORY_OUT, "memory limit reached", conjecture=rec.get("conjecture"))
+            reserve.release()
         except Exception as e:
             if type(e).__name__ == "JobTimeoutException":   # RQ's hard stop
                 result = _result(V.TIMEOUT, "hard stop: the time limit plus the grace "
@@ -179,6 +190,10 @@ def attempt(job_id: str, *, connection=None) -> str:
             else:
                 result = _result(V.ERROR, f"internal error: {type(e).__name__}: {e}",
                                  conjecture=rec.get("conjecture"))
+        reserve.release()
+        if result is None:    # out of memory: answered outside the handler
+            result = _result(V.MEMORY_OUT, "memory limit reached",
+                             conjecture=rec.get("conjecture"))
         _uncap(capped, met_cap=result["status"] == V.MEMORY_OUT)
         capped = None
         written = _retrying(store.finish, job_id, n, result)

@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import time
 
+from . import reserve
 from . import verdict as V
 from .syntax.errors import InputError
 
@@ -109,6 +110,7 @@ def decide(problem, conjecture, settings: V.Settings | None = None) -> dict:
             res["status"] = {"time": V.TIMEOUT, "memory": V.MEMORY_OUT}.get(lim, V.RESOURCE_OUT)
             res["reason"] = res["reason"] or f"{lim} limit reached"
     except MemoryError:
+        reserve.release()
         res["status"] = V.MEMORY_OUT
         res["reason"] = "memory limit reached"
     except InputError as e:
@@ -120,6 +122,7 @@ def decide(problem, conjecture, settings: V.Settings | None = None) -> dict:
     except Exception as e:  # a bug: report it as Error, never as a verdict
         res["status"] = V.ERROR
         res["reason"] = f"internal error: {type(e).__name__}: {e}"
+    cp = out = None           # the clauses and the search's answer may be large
     res["seconds"] = round(time.monotonic() - t0, 4)
     return res
 

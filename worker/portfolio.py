@@ -11,6 +11,7 @@ import gc
 import time
 from dataclasses import replace
 
+from . import reserve
 from .equality_axioms import equality_axioms, uses_equality
 from .saturation import strategy as S
 from .saturation.kbo import make_kbo
@@ -281,6 +282,7 @@ def run(cp, settings, deadline: float) -> dict:
         try:
             m = ms.run(end)
         except MemoryError:
+            reserve.release()
             # the search's tables are dropped to free the memory; proof search
             # goes on, and a run that then ends on time reports MemoryOut
             ms = None

@@ -9,6 +9,8 @@ grows with the domain inside one SAT solver (see :mod:`worker.models.encode`).
 
 from __future__ import annotations
 
+import os
+import resource
 import threading
 import time
 
@@ -27,6 +29,32 @@ _INTERRUPTIBLE = {"glucose3", "glucose4", "glucose42", "minisat22", "maplechrono
                   "minicard"}
 
 
+_PAGE = os.sysconf("SC_PAGE_SIZE") if hasattr(os, "sysconf") else 4096
+
+
+def near_memory_cap() -> bool:
+    """Is the process's address space within reach of its cap (RLIMIT_AS,
+    set in a work horse)?  The SAT solver is C++ code that does not survive
+    running out of memory (it aborts or crashes the process), so the model
+    search stops short of the cap and raises MemoryError instead, which the
+    portfolio answers by dropping the model search while saturation goes on.
+    The reach: an eighth of the cap, at least 48 MB and at most 512 MB."""
+    try:
+        soft = resource.getrlimit(resource.RLIMIT_AS)[0]
+        if soft == resource.RLIM_INFINITY or soft <= 0:
+            return False
+        with open("/proc/self/statm") as f:
+            vm = int(f.read().split()[0]) * _PAGE
+    except (OSError, ValueError, IndexError):
+        return False
+    return vm > soft - min(max(48 << 20, soft // 8), 512 << 20)
+
+
+def _guard_memory() -> None:
+    if near_memory_cap():
+        raise MemoryError("the model search stopped short of the memory cap")
+
+
 class _Sat:
     """One incremental SAT solver with a deadline-respecting solve."""
 
@@ -40,6 +68,7 @@ class _Sat:
         self.clauses += 1
 
     def add_all(self, clauses):
+        _guard_memory()
         add = self.solver.add_clause
         for c in clauses:
             add(c)
@@ -47,6 +76,7 @@ class _Sat:
 
     def solve(self, assumptions, deadline):
         """True / False, or None when the deadline came first."""
+        _guard_memory()           # before any thread is started near the cap
         left = deadline - time.monotonic()
         if left <= 0:
             return None
@@ -65,6 +95,7 @@ class _Sat:
             try:
                 budget = 5_000
                 while True:
+                    _guard_memory()
                     s.conf_budget(budget)
                     r = s.solve_limited(assumptions=assumptions, expect_interrupt=True)
                     if r is not None:
@@ -78,6 +109,7 @@ class _Sat:
                 s.clear_interrupt()     # a late interrupt must not stop the next call
         budget = 500
         while True:
+            _guard_memory()
             s.conf_budget(budget)
             r = s.solve_limited(assumptions=assumptions)
             if r is not None:

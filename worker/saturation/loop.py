@@ -21,6 +21,7 @@ from collections import Counter
 import os
 import time
 
+from worker import reserve
 from worker.syntax.terms import EQ, apply, normalize_vars, rename, subterms
 
 from . import rules as R
@@ -741,6 +742,7 @@ class Saturation:
                              "memory": "memory limit reached",
                              "clauses": "kept-clause limit reached"}[lim.kind]
         except MemoryError:
+            reserve.release()
             self.wheap = self.aheap = []
             out["outcome"] = "limit"
             out["limit"] = "memory"
