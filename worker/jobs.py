@@ -130,7 +130,7 @@ def decide_record(store, rec: dict, memory_mb: int | None) -> dict:
     from .syntax import bundle_reader, load_problem
     from .syntax.errors import InputError
 
-    bundle = store.load_problem_bundle(rec["problem"])
+    bundle = _retrying(store.load_problem_bundle, rec["problem"])   # Redis may be restarting
     if bundle is None:
         return _result(V.ERROR, "the stored problem text is missing")
     raw = rec.get("settings")

@@ -147,7 +147,9 @@ def test_redis_restart_mid_batch_loses_nothing(api, workers, redis_server):
                              f"{api.redis.lrange('rq:queue:nj-batch', 0, -1)[:5]}")
     assert b["total"] == 40 and b["states"]["done"] == 40
     jobs = list(c.jobs(sub["batch"]))
-    assert [j["verdict"] for j in jobs] == [w for _, w in probs]
+    wrong = [(j["verdict"], j.get("reason"), j.get("attempts")) for j, (_, w) in zip(jobs, probs)
+             if j["verdict"] != w]
+    assert [j["verdict"] for j in jobs] == [w for _, w in probs], wrong
     for j in jobs:
         if j["verdict"] == "Theorem":
             assert c.proof(j["id"])["proof"]["steps"]
