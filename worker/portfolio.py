@@ -311,18 +311,23 @@ def run(cp, settings, deadline: float) -> dict:
     else:
         plan = [(S.get(n), share) for n, share in S.DEFAULT_SCHEDULE]
 
+    def saturate(strat, end):
+        """One saturation run until ``end``, its figures added to the totals."""
+        out = run_strategy(cp, strat, end, equality=settings.equality,
+                           cpu_deadline=cpu_deadline, memory_mb=lim.memory_mb,
+                           max_clauses=lim.max_clauses)
+        for key in _SUM:
+            totals[key] += out["figures"].get(key, 0)
+        return out
+
     budget = max(0.0, deadline - time.monotonic())
     if PROBE_SECONDS > 0 and ms is not None and not getattr(ms, "exhausted", False):
         # a short probe of the first strategy before the model search's first
         # slice: an easy theorem is answered at once instead of waiting for
         # that slice (up to half a second) to run out
         strat0 = plan[0][0]
-        out = run_strategy(cp, strat0, min(deadline, time.monotonic()
-                                           + min(PROBE_SECONDS, 0.02 * budget)),
-                           equality=settings.equality, cpu_deadline=cpu_deadline,
-                           memory_mb=lim.memory_mb, max_clauses=lim.max_clauses)
-        for key in _SUM:
-            totals[key] += out["figures"].get(key, 0)
+        out = saturate(strat0, min(deadline, time.monotonic()
+                                   + min(PROBE_SECONDS, 0.02 * budget)))
         if out["outcome"] == "refutation":
             tried.append(strat0.name)
             return finish(out)
@@ -351,11 +356,7 @@ def run(cp, settings, deadline: float) -> dict:
         final = k == len(plan) - 1
         end = deadline if final else now + share * (deadline - now)
         tried.append(strat.name)
-        out = run_strategy(cp, strat, end, equality=settings.equality,
-                           cpu_deadline=cpu_deadline, memory_mb=lim.memory_mb,
-                           max_clauses=lim.max_clauses)
-        for key in _SUM:
-            totals[key] += out["figures"].get(key, 0)
+        out = saturate(strat, end)
         last = out
         if out["outcome"] == "refutation":
             return finish(out)
