@@ -27,6 +27,7 @@ BENCHES = [
                 str(ROOT / "corpus/checks/pelletier"),
                 str(ROOT / "corpus/checks/group-completion"),
                 str(ROOT / "corpus/checks/algebra")]),
+    ("index_bound", [str(ROOT / "corpus/checks/algebra/boolean_ring.nj")]),
     ("models", []),
     ("check", []),
     ("service", []),
