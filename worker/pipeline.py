@@ -89,13 +89,16 @@ def decide(problem, conjecture, settings: V.Settings | None = None) -> dict:
             tc = time.monotonic()
             rep = _certify_model(model, problem, conjecture)
             res["figures"]["check_seconds"] = round(time.monotonic() - tc, 4)
+            kind = "model-evaluated" if rep.ok else "failed"
+            # the values that falsify the failing statement, as data (the
+            # key is always there for a model's certificate: null when none)
+            res["certificate"] = dict(V.certificate(kind, rep.checked, rep.detail),
+                                      fails_for=rep.fails_for)
             if rep.ok:
                 res["model"] = _user_model(model, problem)
-                res["certificate"] = V.certificate("model-evaluated", rep.checked, rep.detail)
                 res["status"] = V.SATISFIABLE if conjecture is None else V.COUNTER_SATISFIABLE
             else:
                 res["status"] = V.ERROR
-                res["certificate"] = V.certificate("failed", rep.checked, rep.detail)
                 res["reason"] = f"internal error: the model evaluator refused the model: {rep.detail}"
         elif outcome == "saturated":
             if out.get("complete"):

@@ -879,6 +879,47 @@ def model_view(model: dict) -> dict:
     return out
 
 
+def _pairs(value, size) -> list | None:
+    """``value`` if it is a list of [variable name, element of 0..size-1]
+    pairs, else None (a stored record is shown, never trusted blindly)."""
+    if not isinstance(value, list) or not value:
+        return None
+    for p in value:
+        if not (isinstance(p, list) and len(p) == 2 and isinstance(p[0], str)
+                and type(p[1]) is int and 0 <= p[1] < size):
+            return None
+    return value
+
+
+def fails_for(rec, size) -> list | None:
+    """Where the conjecture fails, as ``[[variable name, element], ...]``,
+    or None.  The certificate's ``fails_for`` field when it has the key (a
+    certificate written since the field exists; null there means there are
+    no such values to name).  A record written before the field (no key; a
+    reused verdict copies its source's certificate, so such records are
+    still made) is read off its detail text, matched whole against the one
+    wording the evaluator used then: "<n> statement(s) hold and the
+    conjecture <name> fails (for x = 1, y = #2) in a model of size <n>"."""
+    cert = rec.get("certificate") or {}
+    if cert.get("kind") != "model-evaluated" or not rec.get("conjecture"):
+        return None
+    if "fails_for" in cert:
+        return _pairs(cert["fails_for"], size)
+    found = re.fullmatch(r"\d+ statement\(s\) hold and the conjecture "
+                         + re.escape(rec["conjecture"])
+                         + r" fails \(for (.+)\) in a model of size \d+",
+                         cert.get("detail") or "")
+    if not found:
+        return None
+    pairs = []
+    for part in found.group(1).split(", "):
+        one = re.fullmatch(r"(\S+) = #?(\d+)", part)
+        if not one:
+            return None
+        pairs.append([one.group(1), int(one.group(2))])
+    return _pairs(pairs, size)
+
+
 @bp.get("/jobs/<jid>/model")
 @signed_in
 def model(jid):
@@ -886,12 +927,9 @@ def model(jid):
     m = svc().store.get_result(jid).get("model")
     if m is None:
         abort(404, A.no_model_message(rec))
-    # where the conjecture fails, as the evaluator found it ("for x = 1, y = 2")
-    detail = (rec.get("certificate") or {}).get("detail") or ""
-    found = re.search(r"fails \((for [^)]*)\)", detail)
-    return render_template("model.html", j=rec, name=_name(rec), mv=model_view(m),
-                           text=A.format_model_text(m),
-                           fails_at=found.group(1) if found else None)
+    mv = model_view(m)
+    return render_template("model.html", j=rec, name=_name(rec), mv=mv,
+                           text=A.format_model_text(m), fails_for=fails_for(rec, mv["size"]))
 
 
 # =================================================================== submit

@@ -89,15 +89,19 @@ MAX_COUNTEREXAMPLE_TRIES = 100_000
 
 
 def _counterexample(formula, comp, n, varnames, el=str):
-    """For a failing ``forall x... body``, the first values that falsify it
-    ("" when there are too many assignments to try); ``el`` writes a domain
-    element as the model display does."""
+    """For a failing ``forall x... body``: the first values that falsify it,
+    as ``(text, pairs)``: ``text`` the words for the report (" (for x = 1,
+    y = 2)"; ``el`` writes a domain element as the model display does) and
+    ``pairs`` the same values as data, ``[[variable name, element], ...]``
+    in the binder's order.  ``("", None)`` when the formula is not a
+    universal statement over variables that occur, or when there are too
+    many assignments to try."""
     if not (isinstance(formula, Quant) and formula.kind == "forall"):
-        return ""
+        return "", None
     used = set(free_and_max(formula.body)[0])
     vs = [v for v in formula.vars if v in used]
     if not vs or n ** len(vs) > MAX_COUNTEREXAMPLE_TRIES:
-        return ""
+        return "", None
     body = comp.formula(formula.body)
     _, top = free_and_max(formula)
     env = [0] * (top + 1)
@@ -105,9 +109,10 @@ def _counterexample(formula, comp, n, varnames, el=str):
         for v, d in zip(vs, values):
             env[v] = d
         if not body(env):
-            shown = ", ".join(f"{varnames.get(v, f'X{v}')} = {el(d)}" for v, d in zip(vs, values))
-            return f" (for {shown})"
-    return ""
+            pairs = [[varnames.get(v, f"X{v}"), d] for v, d in zip(vs, values)]
+            shown = ", ".join(f"{name} = {el(d)}" for name, d in pairs)
+            return f" (for {shown})", pairs
+    return "", None
 
 
 def check_model(model, problem, conjecture) -> CheckReport:
@@ -125,7 +130,7 @@ def check_model(model, problem, conjecture) -> CheckReport:
     el = (lambda d: f"#{d}") if numerals else str
     checked = 0
     seen_conj = conjecture is None
-    fails_at = ""
+    fails_at, fails_for = "", None
     for index, st in enumerate(problem.statements):
         is_target = st.role == "conjecture" and st.name == conjecture
         if st.role == "conjecture" and not is_target:
@@ -145,14 +150,17 @@ def check_model(model, problem, conjecture) -> CheckReport:
                 return CheckReport(False, checked,
                                    f"the conjecture {st.name} holds in the model, "
                                    f"so the model is no counterexample", index)
-            fails_at = _counterexample(formula, comp, tables.n, st.varnames or {}, el)
+            fails_at, fails_for = _counterexample(formula, comp, tables.n,
+                                                  st.varnames or {}, el)
         elif not value:
-            why = _counterexample(formula, comp, tables.n, st.varnames or {}, el)
+            why, pairs = _counterexample(formula, comp, tables.n, st.varnames or {}, el)
             return CheckReport(False, checked,
-                               f"{st.role} {st.name} is false in the model{why}", index)
+                               f"{st.role} {st.name} is false in the model{why}", index,
+                               fails_for=pairs)
     if not seen_conj:
         return CheckReport(False, checked, f"no conjecture named {conjecture} in the problem")
     n_ax = checked - (1 if conjecture is not None else 0)
     what = (f"{n_ax} statement(s) hold and the conjecture {conjecture} fails{fails_at}"
             if conjecture is not None else f"all {n_ax} statement(s) hold")
-    return CheckReport(True, checked, f"{what} in a model of size {tables.n}")
+    return CheckReport(True, checked, f"{what} in a model of size {tables.n}",
+                       fails_for=fails_for)
