@@ -141,10 +141,21 @@ def test_naive_mode_finds_the_same_proofs():
         assert check_proof(out["proof"], p, cp).ok
 
 
+def _uses_equality(prob) -> bool:
+    for conj in prob.obligations():
+        for c in clausify(prob, conj).clauses:
+            if any(type(a) is tuple and a[0] == "=" for _s, a in c.lits):
+                return True
+    return False
+
+
 def _equality_problems():
-    files = [f for f in sorted(glob.glob(os.path.join(ROOT, "corpus/checks/pelletier/p*.p")))
-             if 48 <= int(os.path.basename(f)[1:3]) <= 65]
-    files += sorted(glob.glob(os.path.join(ROOT, "corpus/checks/group-completion/r*.nj")))
+    """Every problem of our checked suites whose clauses use equality."""
+    files = []
+    for suite, pat in (("pelletier", "p*.p"), ("group-completion", "*.nj"), ("algebra", "*.nj")):
+        for f in sorted(glob.glob(os.path.join(ROOT, "corpus/checks", suite, pat))):
+            if _uses_equality(load_problem(f, disk_reader())):
+                files.append(f)
     return files
 
 
@@ -163,10 +174,12 @@ def test_equality_two_ways_agree():
                 res = decide(prob, conj, s)
                 assert res["status"] != V.ERROR, (f, mode, res["reason"])
                 got[mode] = res["status"]
-            if got["builtin"] in V.DEFINITE and got["axioms"] in V.DEFINITE:
+                if got[mode] not in V.DEFINITE:
+                    break           # nothing to compare
+            if got["builtin"] in V.DEFINITE and got.get("axioms") in V.DEFINITE:
                 both += 1
                 assert got["builtin"] == got["axioms"], (f, got)
-    assert both >= 6        # 15 measured on a lightly loaded machine
+    assert both >= 10       # 18 of 38 obligations measured on a lightly loaded machine
 
 
 def test_a_run_leaves_no_cyclic_garbage():
