@@ -34,7 +34,7 @@ class Config:
     redis_url: str | None = None
     default_time_limit: float = 10.0      # seconds per job when none is asked for
     max_time_limit: float = 300.0         # a job may not ask for more
-    grace_seconds: float = 10.0           # RQ's hard stop = time limit + grace
+    grace_seconds: float = 10.0           # hard stop = time limit + checking allowance + grace (queue.hard_stop_seconds)
     memory_mb: int = 4096                 # address-space cap of one work horse
     max_upload_bytes: int = 16 * 1024 * 1024
     max_jobs_per_batch: int = 10_000

@@ -3,7 +3,8 @@ sweeper that settles the jobs of workers that died.
 
 RQ only dispatches.  Each attempt of a job is one RQ job with the id
 ``<job id>-<attempt>`` running ``worker.jobs.attempt(job_id)``; its RQ
-timeout is the job's time limit plus the grace period (the hard stop).  Our
+timeout is the job's time limit plus the checking allowance plus the grace
+period (the hard stop, :func:`hard_stop_seconds`).  Our
 records in :mod:`service.store` say what happened; RQ's own results expire.
 """
 
@@ -21,6 +22,7 @@ from rq.command import send_stop_job_command
 
 from .config import Config, QUEUE_BATCH, QUEUE_INTERACTIVE, QUEUES
 from .store import Store
+from worker import verdict as V
 
 log = logging.getLogger("nightjar.queue")
 
@@ -80,7 +82,7 @@ class Dispatcher:
         q = self.queues[queue_name or QUEUE_BATCH]
         rid = rq_id(job_id, attempts_done + 1, redispatch)
         q.enqueue_call("worker.jobs.attempt", args=(job_id,),
-                       timeout=int(time_limit + self.config.grace_seconds) + 1,
+                       timeout=int(hard_stop_seconds(time_limit, self.config)) + 1,
                        job_id=rid, result_ttl=RQ_RESULT_TTL, failure_ttl=RQ_FAILURE_TTL,
                        description=f"nightjar job {job_id}", pipeline=pipe)
         pipe.hset(Store.k_job(job_id), "rq", rid)
@@ -97,6 +99,12 @@ class Dispatcher:
         except Exception as e:  # not running any more, or RQ lost it: fine
             log.info("stop %s: %s", job_id, e)
             return False
+
+
+def hard_stop_seconds(time_limit: float, config: Config) -> float:
+    """How long an attempt may run before it is stopped: the time limit, the
+    allowance for checking a proof found near its end, and the grace period."""
+    return time_limit + V.check_allowance(time_limit) + config.grace_seconds
 
 
 def sweep(store: Store, dispatcher: Dispatcher, config: Config,
@@ -124,7 +132,7 @@ def sweep(store: Store, dispatcher: Dispatcher, config: Config,
         attempts = int(rec.get("attempts") or 0)
         who = rec.get("worker") or "?"
         started = float(rec.get("started") or 0)
-        hard_stop = started + float(rec.get("time_limit") or 0) + config.grace_seconds
+        hard_stop = started + hard_stop_seconds(float(rec.get("time_limit") or 0), config)
         if started and time.time() >= hard_stop:
             # it ran past its time limit and the grace period: RQ's hard stop
             # (or the monitor) ended it; that is a Timeout, not a lost worker

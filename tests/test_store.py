@@ -159,13 +159,18 @@ def test_stranded_queue_entry_is_sent_again(st):
 
 def test_sweeper_settles_an_attempt_past_its_hard_stop_as_timeout(st):
     store, disp = st
-    bid, (a, _) = make(st)                    # time limit 2 s, grace 10 s
+    bid, (a, _) = make(st)                    # time limit 2 s, allowance 1 s, grace 10 s
     store.start_attempt(a, "w1", 10)
-    store.r.hset(store.k_job(a), "started", str(__import__("time").time() - 13))
+    store.r.hset(store.k_job(a), "started", str(__import__("time").time() - 12))
+    store.r.delete(store.k_alive(a))
+    # 12 s after the start it is a lost attempt (retried), not yet a hard stop
+    assert sweep(store, disp, CFG) == [(a, "retried")]
+    store.start_attempt(a, "w1", 10)
+    store.r.hset(store.k_job(a), "started", str(__import__("time").time() - 14))
     store.r.delete(store.k_alive(a))
     assert sweep(store, disp, CFG) == [(a, "timed out")]
     j = store.get_job(a)
-    assert (j["state"], j["verdict"], j["attempts"]) == ("done", "Timeout", 1)
+    assert (j["state"], j["verdict"], j["attempts"]) == ("done", "Timeout", 2)
     assert "hard stop" in j["reason"]
     assert store.get_batch(bid)["verdicts"] == {"Timeout": 1}
 

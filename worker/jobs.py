@@ -185,7 +185,7 @@ def attempt(job_id: str, *, connection=None) -> str:
             reserve.release()
         except Exception as e:
             if type(e).__name__ == "JobTimeoutException":   # RQ's hard stop
-                result = _result(V.TIMEOUT, "hard stop: the time limit plus the grace "
+                result = _result(V.TIMEOUT, "hard stop: the time limit, the checking allowance and the grace "
                                  "period ran out", conjecture=rec.get("conjecture"))
             else:
                 result = _result(V.ERROR, f"internal error: {type(e).__name__}: {e}",

@@ -14,9 +14,9 @@ from . import verdict as V
 from .syntax.errors import InputError
 
 
-def _certify_proof(proof, problem, cp):
+def _certify_proof(proof, problem, cp, deadline=None):
     from .certify.proofcheck import check_proof
-    return check_proof(proof, problem, cp)
+    return check_proof(proof, problem, cp, deadline)
 
 
 def _certify_model(model, problem, conjecture):
@@ -64,16 +64,27 @@ def decide(problem, conjecture, settings: V.Settings | None = None) -> dict:
             proof = out["proof"]
             proof.setdefault("conjecture", conjecture)
             tc = time.monotonic()
-            rep = _certify_proof(proof, problem, cp)
+            rep = _certify_proof(proof, problem, cp,
+                                 deadline + V.check_allowance(settings.limits.time))
             res["figures"]["check_seconds"] = round(time.monotonic() - tc, 4)
-            res["proof"] = proof
-            res["axioms_used"] = list(proof.get("axioms_used") or [])
-            if not rep.ok:
+            if rep.timed_out:
+                # never a verdict unchecked: the time ran out before the
+                # proof was certified (it is not kept: nothing vouches for it)
+                res["status"] = V.TIMEOUT
+                res["reason"] = (f"a proof was found after {tc - t0:.1f} s, but {rep.detail} "
+                                 f"when the time limit plus the checking allowance "
+                                 f"({V.check_allowance(settings.limits.time):g} s) ran out; "
+                                 f"a longer time limit may settle it")
+            elif not rep.ok:
+                res["proof"] = proof
+                res["axioms_used"] = list(proof.get("axioms_used") or [])
                 res["status"] = V.ERROR
                 res["certificate"] = V.certificate("failed", rep.checked, rep.detail)
                 res["reason"] = (f"internal error: the proof checker refused step "
                                  f"{rep.failing_step}: {rep.detail}")
             else:
+                res["proof"] = proof
+                res["axioms_used"] = list(proof.get("axioms_used") or [])
                 res["certificate"] = V.certificate("proof-replayed", rep.checked, rep.detail)
                 if conjecture is None:
                     res["status"] = V.UNSATISFIABLE

@@ -38,6 +38,16 @@ class Limits:
     max_clauses: int | None = 2_000_000   # kept clauses (active + passive)
 
 
+def check_allowance(time_limit: float) -> float:
+    """Seconds past the time limit that the certification of a found proof
+    may take: a quarter of the limit, at least 1 s and at most 60 s.  The
+    search itself stops at the limit; a proof found just before it still gets
+    checked, and a check that cannot finish in this allowance ends the
+    obligation as Timeout (a verdict is never given unchecked).  The
+    service's hard stop is the limit plus this allowance plus its grace."""
+    return min(max(1.0, 0.25 * float(time_limit)), 60.0)
+
+
 @dataclass(slots=True)
 class Settings:
     limits: Limits = field(default_factory=Limits)

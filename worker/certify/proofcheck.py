@@ -35,6 +35,8 @@ for soundness.
 
 from __future__ import annotations
 
+import time
+
 from ..syntax import terms as T
 from ..syntax.formulas import (And, Atom, Const, Iff, Implies, Not, Or, Quant,
                                CONJECTURE, NEGATED_CONJECTURE)
@@ -57,6 +59,10 @@ FINITE_DOMAIN_CAP = 300_000
 # (worker/certify/spotcheck.py); the benchmark switches this off to measure
 # the replay alone.
 SPOT_CHECK = True
+
+
+class _OutOfTime(Exception):
+    """The replay ran past its deadline (not a refusal)."""
 
 
 class Refused(Exception):
@@ -681,7 +687,10 @@ class _Checker:
             raise Refused(f"the proof is for conjecture {proof.get('conjecture')!r}, "
                           f"the obligation is {self.cp.conjecture!r}")
         self._introduced()
+        deadline = getattr(self, "deadline", None)
         for n, step in enumerate(steps):
+            if deadline is not None and not (n & 63) and time.monotonic() > deadline:
+                raise _OutOfTime()
             if type(step) is not dict:
                 raise Refused(f"step number {n + 1} is not a JSON object")
             sid = step.get("id")
@@ -1008,15 +1017,23 @@ def check_input_clauses(problem, cp) -> CheckReport:
     return CheckReport(True, len(cp.clauses), f"{len(cp.clauses)} input clauses checked")
 
 
-def check_proof(proof: dict, problem, cp) -> CheckReport:
+def check_proof(proof: dict, problem, cp, deadline: float | None = None) -> CheckReport:
     """Replay ``proof`` against the obligation (``problem``, ``cp``).
-    Never raises: a refusal names the step and says what is wrong."""
+    Never raises: a refusal names the step and says what is wrong.  With a
+    ``deadline`` (``time.monotonic()`` seconds) a replay still running then
+    stops with ``timed_out`` set: nothing was refused, nothing certified."""
     try:
         checker = _Checker(proof, problem, cp)
     except Exception as e:          # a refusal is always the safe answer
         return CheckReport(False, 0, f"the obligation could not be read ({e})", None)
+    checker.deadline = deadline
     try:
         return checker.run()
+    except _OutOfTime:
+        n = len((proof or {}).get("steps") or [])
+        return CheckReport(False, len(checker.clauses),
+                           f"its check had replayed {len(checker.clauses)} of its {n} steps",
+                           None, timed_out=True)
     except Refused as r:
         return CheckReport(False, len(checker.clauses), r.detail, r.step)
     except Exception as e:

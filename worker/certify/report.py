@@ -17,3 +17,6 @@ class CheckReport:
     # in the binder's order; None when that statement is no such universal
     # statement or there were too many assignments to try
     fails_for: list | None = None
+    # proof replay only: the check stopped at its deadline (neither refused
+    # nor certified)
+    timed_out: bool = False
