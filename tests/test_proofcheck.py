@@ -703,6 +703,37 @@ def test_every_clause_of_the_corpus_passes_the_input_checks():
 
 # ------------------------------------------------------------- properties of the variant test
 
+def test_spot_check_enumerates_each_shape_of_statement_once(monkeypatch):
+    """Rules of one form under other names (p1(x) -> p2(x), p2(x) -> p3(x))
+    share one enumeration of small models; a wrong clause in that shape is
+    still refused, and a statement of another shape is enumerated anew."""
+    from worker.certify import spotcheck
+    calls = []
+    real = spotcheck.models
+    monkeypatch.setattr(spotcheck, "models", lambda f, s, n: calls.append(n) or real(f, s, n))
+    ck = spotcheck.SpotChecker()
+    sig = lambda a, b: {a: ("predicate", 1), b: ("predicate", 1)}  # noqa: E731
+    rule = lambda a, b: forall([0], Or((Not(A(a, 0)), A(b, 0))))  # noqa: E731
+    clause = lambda a, b: ((False, (a, 0)), (True, (b, 0)))  # noqa: E731
+    for k in range(1, 6):
+        a, b = f"p{k}", f"p{k + 1}"
+        for size in (1, 2):
+            assert ck.counterexample(f"r{k}", rule(a, b), sig(a, b), clause(a, b), size) is None
+            assert ck.tried(f"r{k}", size)
+    assert calls == [1, 2]              # the first rule only
+    # the same shape with the clause turned round does not follow: refused
+    wrong = ((True, ("p7", 0)), (False, ("p8", 0)))
+    assert ck.counterexample("r7", rule("p7", "p8"), sig("p7", "p8"), wrong, 1) is not None
+    # another shape (the head and body the same symbol): enumerated anew
+    assert ck.counterexample("r9", rule("q", "q"), {"q": ("predicate", 1)},
+                             clause("q", "q"), 1) is None
+    assert calls[-1] == 1 and len(calls) == 4
+    # a symbol of another arity is another shape
+    assert spotcheck.shape(rule("a", "b"), sig("a", "b"), clause("a", "b"), 1) != \
+        spotcheck.shape(rule("a", "b"), {"a": ("predicate", 1), "b": ("predicate", 2)},
+                        clause("a", "b"), 1)
+
+
 from hypothesis import given, settings, strategies as st  # noqa: E402
 
 _var = st.integers(0, 3)

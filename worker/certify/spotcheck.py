@@ -203,20 +203,87 @@ def describe(interp, size) -> str:
     return f"domain of {size}: " + ("; ".join(parts) if parts else "no symbols")
 
 
+def shape(formula, symbols: dict, lits, size: int):
+    """A key that is the same for two (statement, clause, symbols, size)
+    cases exactly when one is the other with its symbols consistently
+    renamed (same kinds and arities; ``=`` kept): the spot check's outcome
+    cannot tell them apart.  None when the formula is too deep to walk."""
+    names: dict = {}
+
+    def sym(n):
+        if n == EQ:
+            return n
+        k = names.get(n)
+        if k is None:
+            k = names[n] = f"#{len(names)}"
+        return k
+
+    def term(t):
+        if type(t) is int:
+            return t
+        if type(t) is str:
+            return sym(t)
+        return (sym(t[0]),) + tuple(term(a) for a in t[1:])
+
+    def walk(f):
+        if isinstance(f, Atom):
+            return ("A", term(f.term))
+        if isinstance(f, Not):
+            return ("N", walk(f.arg))
+        if isinstance(f, And):
+            return ("&",) + tuple(walk(x) for x in f.args)
+        if isinstance(f, Or):
+            return ("|",) + tuple(walk(x) for x in f.args)
+        if isinstance(f, Implies):
+            return ("I", walk(f.left), walk(f.right))
+        if isinstance(f, Iff):
+            return ("E", walk(f.left), walk(f.right))
+        if isinstance(f, Quant):
+            return ("Q", f.kind, f.vars, walk(f.body))
+        if isinstance(f, Const):
+            return ("C", f.value)
+        raise TypeError(f"not a formula: {f!r}")
+
+    try:
+        fs = walk(formula)
+        ls = tuple((sg, term(a)) for sg, a in lits)
+    except RecursionError:
+        return None
+    named = tuple(sorted((names[n], kind, ar) for n, (kind, ar) in symbols.items() if n in names))
+    rest = tuple(sorted((kind, ar) for n, (kind, ar) in symbols.items() if n not in names))
+    return (fs, ls, named, rest, size)
+
+
 class SpotChecker:
-    """Caches the small models of each statement's formula."""
+    """Caches the small models of each statement's formula, and the outcome
+    of each case by its :func:`shape`: a rule base of a thousand rules of one
+    form (``p_i(x) implies p_i+1(x)``) enumerates the models of that form
+    once, not a thousand times."""
 
     def __init__(self):
         self._models: dict = {}
+        self._passed: dict = {}        # shape -> whether the models were enumerated
+        self._tried_by_shape: set = set()
 
     def counterexample(self, key, formula, symbols: dict, lits, size: int):
         """A description of a model of ``formula`` on ``size`` elements in
         which the clause is false, or None (also when the size is skipped;
         :meth:`tried` tells the two apart)."""
         ck = (key, size)
+        sh = shape(formula, symbols, lits, size) if ck not in self._models else None
+        if sh is not None and sh in self._passed:
+            if self._passed[sh]:
+                self._tried_by_shape.add(ck)
+            return None                 # passed (or was skipped) in the same shape
+        found = self._counterexample(ck, formula, symbols, lits, size)
+        if found is None and sh is not None:
+            self._passed[sh] = self._models.get(ck) is not None
+        return found
+
+    def _counterexample(self, ck, formula, symbols, lits, size):
         if ck not in self._models:
             try:
-                self._models[ck] = models(formula, symbols, size)
+                self._models[ck] = models(formula, symbols, ck[1])
             except _Skip:
                 self._models[ck] = None
         ms = self._models[ck]
@@ -265,7 +332,7 @@ class SpotChecker:
     def tried(self, key, size: int) -> bool:
         """Whether the models of ``key`` on ``size`` elements were enumerated
         (False when there were too many interpretations to try)."""
-        return self._models.get((key, size)) is not None
+        return self._models.get((key, size)) is not None or (key, size) in self._tried_by_shape
 
 
 def formula_signature(f) -> dict:
