@@ -14,6 +14,7 @@ import sys
 from worker.syntax import disk_reader, load_problem, require_conjecture
 from worker.syntax.errors import InputError
 from worker.syntax.printer import format_clause
+from worker.syntax.warn import find_warnings
 
 JSON_VERSION = 1
 
@@ -76,6 +77,26 @@ def _load(path, args):
                         include_root=args.include_root)
 
 
+def disk_text(name: str) -> str:
+    """A file's text, for the line a warning echoes (read again only for a
+    statement that has a warning)."""
+    return disk_reader()(name)
+
+
+def warnings_json(problem) -> list:
+    """The warnings of a problem read from disk, as JSON (each with its
+    rendered ``text``); DEVELOPERS.md, "Warnings"."""
+    return [w.to_json() for w in find_warnings(problem, disk_text)]
+
+
+def print_warnings(warnings: list, stream=None) -> None:
+    """Rendered warnings (JSON form) on stderr."""
+    stream = stream or sys.stderr
+    for w in warnings:
+        print(w["text"], file=stream)
+    stream.flush()
+
+
 # ------------------------------------------------------------------- check
 
 def check_file(path: str, args) -> dict:
@@ -99,6 +120,7 @@ def check_file(path: str, args) -> dict:
             for sym in sorted(problem.signature.values(),
                               key=lambda s: (s.kind, s.name))],
         "obligations": None,
+        "warnings": warnings_json(problem),
         "error": None,
     }
     obs = []
@@ -131,8 +153,11 @@ def _table(rows, indent="    ") -> list:
 def render_check(rep: dict) -> str:
     n_files = len(rep["files_read"])
     n_st = len(rep["statements"])
+    n_w = len(rep.get("warnings") or ())
+    warned = f", {n_w} warning{'s' if n_w != 1 else ''}" if n_w else ""
     lines = [f"{rep['file']}: fine ({rep['language']}, {n_st} "
-             f"statement{'s' if n_st != 1 else ''}, {n_files} file{'s' if n_files != 1 else ''} read)"]
+             f"statement{'s' if n_st != 1 else ''}, {n_files} file{'s' if n_files != 1 else ''} "
+             f"read{warned})"]
     lines.append("  statements")
     lines += _table([(s["role"], s["name"], f"{s['file']}:{s['line']}")
                      for s in rep["statements"]])
@@ -174,6 +199,8 @@ def run_check(args) -> int:
                 print(f"{path}: {e}", file=sys.stderr)
         else:
             if not args.json:
+                sys.stdout.flush()
+                print_warnings(rep["warnings"])
                 print(render_check(rep))
         reports.append(rep)
     if args.json:

@@ -52,7 +52,8 @@ def test_check_json_is_stable(capsys):
     assert d["version"] == 1 and d["ok"] is True and len(d["files"]) == 2
     r = d["files"][0]
     assert set(r) == {"file", "ok", "language", "files_read", "statements", "symbols",
-                      "obligations", "error"}
+                      "obligations", "warnings", "error"}
+    assert r["warnings"] == []
     assert r["statements"][0] == {"name": "fleet", "role": "axiom",
                                   "language": "native",
                                   "file": str(DATA / "robots" / "common.nj"),
