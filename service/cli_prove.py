@@ -31,7 +31,9 @@ def register(subparsers) -> None:
     p.add_argument("--json", action="store_true",
                    help="one JSON object per obligation per line")
     p.add_argument("--strategy", metavar="NAME",
-                   help="run only this strategy instead of the default schedule")
+                   help="run only this strategy instead of the default schedule; "
+                        "goal-first (set of support) is incomplete: it may give up "
+                        "(GaveUp) on a theorem that the other strategies prove")
     p.add_argument("--equality", choices=("builtin", "axioms"), default="builtin",
                    help="built-in equality (default) or equality as axioms")
     p.add_argument("--no-models", action="store_true",
@@ -98,9 +100,23 @@ def certificate_text(cert: dict | None) -> str:
     return text.get(kind, kind)
 
 
+def _warnings(problem, as_json: bool) -> list:
+    """The problem's warnings (DEVELOPERS.md, "Warnings"), shown on stderr
+    unless the output is JSON (there each record lists its own)."""
+    from service.cli_check import disk_text
+    from worker.syntax.warn import find_warnings
+    warns = find_warnings(problem, disk_text)
+    if not as_json:
+        sys.stdout.flush()
+        for w in warns:
+            print(w.render(), file=sys.stderr, flush=True)
+    return warns
+
+
 def run_prove(args) -> int:
     from worker.pipeline import decide
     from worker.saturation import strategy as S
+    from worker.syntax.warn import for_obligation
 
     if args.strategy and args.strategy not in S.STRATEGIES:
         print(f"nightjar: unknown strategy {args.strategy!r}; known: "
@@ -123,6 +139,7 @@ def run_prove(args) -> int:
                 print(json.dumps(input_error_record(path, e.render())))
             code = EXIT_INPUT
             continue
+        warns = _warnings(problem, args.json)
         for conj in problem.obligations():
             res = decide(problem, conj, settings)
             if res["status"] == V.INPUT_ERROR:
@@ -133,7 +150,8 @@ def run_prove(args) -> int:
                 print(f"nightjar: WARNING: {path}: the axioms contradict each other "
                       f"(every conjecture follows from them)", file=sys.stderr)
             if args.json:
-                print(json.dumps(dict(file=path, **res)), flush=True)
+                print(json.dumps(dict(file=path, **res, warnings=[
+                    w.to_json() for w in for_obligation(warns, conj)])), flush=True)
             else:
                 print(_human(path, res), flush=True)
     return code
