@@ -89,6 +89,85 @@ def warnings_json(problem) -> list:
     return [w.to_json() for w in find_warnings(problem, disk_text)]
 
 
+def submission_warnings(files: list, axioms: list | None = None) -> dict:
+    """The warnings of what ``nightjar submit`` sends, read here from disk as
+    ``check`` reads it: ``{file as given: [InputWarning]}`` for each FILE.
+    With axiom files every FILE's list also holds the warnings about the
+    axioms, and the whole submission counts as one problem (a constant two
+    conjecture files share is not reported, though each job reads only one of
+    them).  A file that cannot be read is left out: the submission itself
+    reports it."""
+    def read(path):
+        try:
+            return load_problem(path, disk_reader())
+        except InputError:
+            return None
+
+    try:
+        return _submission_warnings(files, axioms, read)
+    except Exception as e:              # a bug here must not hide the batch
+        print(f"nightjar: internal error while looking for warnings: "
+              f"{type(e).__name__}: {e}", file=sys.stderr)
+        return {path: [] for path in files}
+
+
+def _submission_warnings(files, axioms, read) -> dict:
+    from worker.syntax import Problem
+    if not axioms:
+        out = {}
+        for path in files:
+            problem = read(path)
+            out[path] = [] if problem is None else find_warnings(problem, disk_text)
+        return out
+    statements, signature, seen, owner = [], {}, set(), {}
+    for path in list(axioms) + list(files):
+        problem = read(path)
+        if problem is None:
+            continue
+        signature.update(problem.signature)
+        for st in problem.statements:
+            key = (st.span.file, st.span.line, st.span.col) if st.span else id(st)
+            if key not in seen:
+                seen.add(key)
+                statements.append(st)
+                owner[id(st)] = path
+    if not statements:
+        return {path: [] for path in files}
+    warns = find_warnings(Problem(statements, signature, [], files[0]), disk_text)
+    by_statement = {}
+    for w, st in _with_statements(warns, statements):
+        by_statement.setdefault(owner[id(st)], []).append(w)
+    shared = [w for a in axioms for w in by_statement.get(a, [])]
+    return {path: shared + by_statement.get(path, []) for path in files}
+
+
+def submission_report(by_path: dict):
+    """From :func:`submission_warnings`: every warning once (a list), and
+    ``job_warnings(job) -> [JSON]``, the warnings of one job of the batch
+    (its file as the service names it, its conjecture)."""
+    import os
+
+    from service.client import _name
+    from worker.syntax.warn import for_obligation
+    flat = list({id(w): w for ws in by_path.values() for w in ws}.values())
+    cwd = os.getcwd()
+    by_job_file = {_name(path, cwd): ws for path, ws in by_path.items()}
+
+    def job_warnings(job: dict) -> list:
+        ws = by_job_file.get(job.get("file"), [])
+        return [w.to_json() for w in for_obligation(ws, job.get("conjecture"))]
+    return flat, job_warnings
+
+
+def _with_statements(warns, statements):
+    """Pair each warning with the statement it is about (by file and name)."""
+    index = {(st.span.file if st.span else None, st.name): st for st in statements}
+    for w in warns:
+        st = index.get((w.span.file, w.statement))
+        if st is not None:
+            yield w, st
+
+
 def print_warnings(warnings: list, stream=None) -> None:
     """Rendered warnings (JSON form) on stderr."""
     stream = stream or sys.stderr
