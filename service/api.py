@@ -478,8 +478,8 @@ def health():
     s = svc()
     try:
         s.redis.ping()
-        from rq import Worker
-        workers = len(Worker.all(connection=s.redis))
+        from .queue import live_workers
+        workers = len(live_workers(s.redis))
         queues = {name: s.dispatcher.queues[name].count for name in QUEUES}
         running = s.redis.scard(s.store.K_RUNNING)
     except redis.RedisError as e:

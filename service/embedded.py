@@ -142,7 +142,11 @@ def stop_processes(procs: list[subprocess.Popen], timeout: float = 10.0) -> None
     live = [p for p in procs if p.poll() is None]
     for p in live:
         _signal_tree(p.pid, signal.SIGTERM)
-    deadline = time.monotonic() + 1.0
+    # RQ ignores a second stop signal within 1 s of the first (counted from
+    # when its handler ran: rq/worker/base.py, request_force_stop); sent
+    # sooner, it is lost, the worker waits for its job and the SIGKILL below
+    # leaves it registered
+    deadline = time.monotonic() + 1.5
     while any(p.poll() is None for p in live) and time.monotonic() < deadline:
         time.sleep(0.05)
     for p in live:

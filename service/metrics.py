@@ -5,7 +5,7 @@ format (version 0.0.4, an open standard).
     nightjar_jobs{state}                   our job records, per state
     nightjar_verdicts_total{verdict}       settled jobs per SZS verdict
     nightjar_job_seconds                   histogram of the engine seconds of done jobs
-    nightjar_workers_alive                 RQ workers registered and not expired
+    nightjar_workers_alive                 RQ workers alive (registered, beating)
     nightjar_running_jobs                  jobs held by a live attempt
     nightjar_redis_used_memory_bytes       Redis's own figure
     nightjar_metrics_scrape_seconds        what computing this answer cost
@@ -142,7 +142,7 @@ def _num(x) -> str:
 def render(r: redis.Redis) -> str:
     """The whole exposition text."""
     t0 = time.perf_counter()
-    from rq import Queue, Worker
+    from rq import Queue
     out: list[str] = []
 
     def family(name, kind, help_, samples):
@@ -170,8 +170,10 @@ def render(r: redis.Redis) -> str:
         out.append(f'nightjar_job_seconds_bucket{{le="{labels["le"]}"}} {n}')
     out.append(f"nightjar_job_seconds_sum {_num(float(figs['sum']))}")
     out.append(f"nightjar_job_seconds_count {figs['count']}")
-    family("nightjar_workers_alive", "gauge", "RQ workers registered and not expired.",
-           [({}, Worker.count(connection=r))])
+    from .queue import live_workers
+    family("nightjar_workers_alive", "gauge",
+           "RQ workers registered, not expired, and beating (queue.live_workers).",
+           [({}, len(live_workers(r)))])
     family("nightjar_running_jobs", "gauge", "Jobs held by a running attempt.",
            [({}, r.scard("nj:running"))])
     try:

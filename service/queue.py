@@ -215,13 +215,72 @@ class Sweeper(threading.Thread):
                 log.exception("sweeper")
 
 
+# RQ's worker registration (rq/worker/base.py of rq 3.0, read there): a
+# worker's hash ``rq:worker:<name>`` is set to expire ``worker_ttl + 60`` s
+# after each beat; idle, it beats before every dequeue, which waits at most
+# ``worker_ttl - 15`` s; while a horse runs it beats every
+# ``job_monitoring_interval``; ``register_death`` (on a clean stop) takes it out
+# of ``rq:workers``.  RQ's default worker_ttl of 420 s means a beat every
+# 405 s: a kill -9'd worker would look alive for 8 minutes.  Ours beat every
+# 15 s, and a worker silent for LIVE_WITHIN seconds is not counted as live
+# (its hash expires a minute later, as RQ has it).
+WORKER_TTL = 30
+IDLE_BEAT_SECONDS = WORKER_TTL - 15
+LIVE_WITHIN = 2 * IDLE_BEAT_SECONDS + 5
+
+
+def live_workers(r: redis.Redis, now: float | None = None) -> list:
+    """The RQ workers that are alive: registered, their hash not expired
+    (``clean_worker_registry`` first drops the entries of expired ones from
+    every queue's set and ``rq:workers``) and their last beat at most
+    LIVE_WITHIN seconds old.  A worker that stopped cleanly has deregistered;
+    one killed, or on a lost machine, drops out within LIVE_WITHIN."""
+    from rq.worker_registration import clean_worker_registry
+    for name in QUEUES:
+        clean_worker_registry(Queue(name, connection=r))
+    now = time.time() if now is None else now
+    out = []
+    for w in Worker.all(connection=r):
+        beat = w.last_heartbeat.timestamp() if w.last_heartbeat else None
+        if beat is not None and now - beat <= LIVE_WITHIN:
+            out.append(w)
+    return out
+
+
+_stop = threading.Event()       # this process was asked to stop (SIGTERM / SIGINT)
+
+
+def _stop_asked(signum, frame) -> None:
+    """The signal handler between RQ loops (RQ installs its own inside one)."""
+    _stop.set()
+
+
 class NightjarWorker(Worker):
     """RQ's forking worker; while a work horse runs, the worker itself also
     renews the attempt's alive key every ``job_monitoring_interval`` seconds,
     so an attempt stuck in a long native call (the horse's own heartbeat
-    thread then waits for the interpreter lock) is not taken for lost."""
+    thread then waits for the interpreter lock) is not taken for lost.
+
+    A stop request (SIGTERM, Ctrl-C) is remembered for the whole process:
+    RQ ends its loop on it and deregisters, and :func:`run_worker` must then
+    return instead of taking RQ's loop end for a Redis error and starting a
+    fresh worker (which registered again and was left behind, registered,
+    by the SIGKILL that followed)."""
 
     alive_ttl = 12.0
+
+    def request_stop(self, signum, frame):
+        _stop.set()
+        super().request_stop(signum, frame)
+
+    def request_force_stop(self, signum, frame):
+        _stop.set()
+        super().request_force_stop(signum, frame)
+
+    def _install_signal_handlers(self):
+        super()._install_signal_handlers()
+        if _stop.is_set():          # asked to stop while it was starting
+            self._stop_requested = True
 
     def maintain_heartbeats(self, job, execution):
         super().maintain_heartbeats(job, execution)
@@ -300,41 +359,62 @@ def run_worker(url: str, config: Config, *, burst: bool = False,
         sw = Sweeper(url, config)
         sw.start()
     wait = 1.0
+    main_thread = threading.current_thread() is threading.main_thread()
+    _stop.clear()
+
+    def between_loops():
+        # RQ's handlers belong to the worker that ended; until the next one
+        # installs its own, a stop request only sets the flag
+        if main_thread:
+            import signal
+            for sig in (signal.SIGTERM, signal.SIGINT):
+                signal.signal(sig, _stop_asked)
+
+    def pause(seconds):
+        between_loops()
+        _stop.wait(seconds)
+
     try:
-        while True:
+        while not _stop.is_set():
             r = connect(url)
             try:
                 r.ping()
                 wait = 1.0               # Redis answers: back to a short pause
                 w = NightjarWorker([Queue(n, connection=r) for n in QUEUES], connection=r,
-                                   name=worker_name(),
+                                   name=worker_name(), worker_ttl=WORKER_TTL,
                                    work_horse_killed_handler=_horse_killed_handler(),
                                    job_monitoring_interval=max(1, int(config.heartbeat_seconds)))
                 w.alive_ttl = config.alive_ttl
                 w.work(burst=burst, logging_level=log_level, with_scheduler=False)
-                if burst or getattr(w, "_stop_requested", False):
+                if burst or _stop.is_set() or getattr(w, "_stop_requested", False):
                     return 0
                 # RQ leaves its loop (without raising) on an error such as
                 # Redis restarting under it: start a fresh worker.
                 log.warning("worker: the RQ loop ended without a stop request; "
                             "starting again in %.0fs", wait)
-                time.sleep(wait)
+                pause(wait)
                 wait = min(wait * 2, 10.0)
                 continue
             except (redis.ConnectionError, redis.TimeoutError) as e:
+                if _stop.is_set():
+                    return 0
                 log.warning("worker: redis not answering (%s); retrying in %.0fs", e, wait)
-                time.sleep(wait)
+                pause(wait)
                 wait = min(wait * 2, 10.0)
             except Exception:
+                if _stop.is_set():      # e.g. RQ's StopRequested outside its loop
+                    return 0
                 # RQ's bookkeeping can fail half-way when Redis restarts under
                 # it; our records are guarded, so start a fresh RQ worker.
                 log.exception("worker: restarting after an error")
-                time.sleep(wait)
+                pause(wait)
                 wait = min(wait * 2, 10.0)
+        return 0
     finally:
         if sw:
             sw.halt.set()
 
 
 __all__ = ["connect", "Dispatcher", "sweep", "sweep_stranded", "Sweeper", "run_worker", "rq_id",
+           "live_workers",
            "QUEUE_INTERACTIVE", "QUEUE_BATCH", "QUEUES"]

@@ -110,6 +110,32 @@ def test_worker_killed_mid_job_is_retried_and_settles(api, workers):
     assert api.redis.scard("nj:running") == 0
 
 
+def test_health_counts_live_workers_and_a_stopped_one_deregisters(api, workers):
+    """SIGTERM stops a worker, idle or busy, by itself and takes it out of
+    RQ's registry; health counts the workers that remain.  (Before, one
+    SIGTERM left an idle worker running: it took the end of RQ's loop for a
+    Redis error and started a fresh RQ worker, which registered again; the
+    SIGKILL that stop_processes sends 10 s later left that registration for
+    health to count.)"""
+    import signal
+
+    from service.embedded import stop_processes
+    idle, busy = workers.start(2)
+    c = owner(api)
+    wait_until(lambda: c.health()["workers"] == 2, 60, what="both workers to register")
+    idle.send_signal(signal.SIGTERM)                 # one SIGTERM: RQ's warm stop
+    assert idle.wait(30) == 0
+    assert c.health()["workers"] == 1 and api.redis.scard("rq:workers") == 1
+
+    sub = c.submit({"problem": {"main": "slow.nj", "files": {"slow.nj": SLOW}},
+                    "time_limit": 30})
+    jid = sub["jobs"][0]["id"]
+    wait_until(lambda: c.job(jid)["state"] == "running", 20, what="the job to start")
+    stop_processes([busy], timeout=20)               # warm stop, then cold: the horse goes
+    assert busy.returncode == 0
+    assert c.health()["workers"] == 0 and api.redis.scard("rq:workers") == 0
+
+
 def test_cancel_running_job_stops_it(api, workers):
     workers.start(1)
     c = owner(api)
