@@ -9,7 +9,8 @@
     DELETE /api/batches/<id>                  a settled batch, its jobs and results
     GET  /api/jobs/<id>                       the job record
     GET  /api/jobs/<id>/proof                 proof as JSON and as text
-    GET  /api/jobs/<id>/model                 countermodel as JSON and as text (404
+    GET  /api/jobs/<id>/model                 model (a countermodel for CounterSatisfiable)
+                                              as JSON and as text (404
                                               for a Satisfiable/CounterSatisfiable
                                               verdict without one: from saturation)
     GET  /api/jobs/<id>/figures
@@ -357,7 +358,7 @@ def job_model(jid):
     model = svc().store.get_result(jid)["model"]
     if model is None and rec.get("verdict") in V.REFUTED:
         # a Satisfiable/CounterSatisfiable verdict without a model: say why,
-        # rather than a null a client would take for a missing countermodel
+        # rather than a null a client would take for a missing model
         raise BadRequest("no_model", no_model_message(rec), status=404)
     return jsonify({"id": jid, "state": rec["state"], "verdict": rec["verdict"],
                     "model": model, "text": format_model_text(model) if model else None})

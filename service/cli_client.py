@@ -155,12 +155,36 @@ def cmd_token(args) -> int:
 # -- showing jobs ------------------------------------------------------------
 
 def job_line(j: dict) -> dict:
-    """The JSON-lines form of a job (``--wait --json``)."""
+    """The JSON-lines form of a job (``--wait --json``).  ``seconds`` is the
+    record's: the search that gave the verdict, for a reused job (``reused_from``
+    set) the original job's."""
     return {"id": j["id"], "batch": j.get("batch"), "file": j["file"],
             "conjecture": j["conjecture"],
             "status": j.get("verdict") or j["state"], "state": j["state"],
             "seconds": j.get("seconds"), "strategy": j.get("strategy"),
-            "attempts": j.get("attempts"), "reason": j.get("reason") or None}
+            "attempts": j.get("attempts"), "reason": j.get("reason") or None,
+            "reused_from": j.get("reused_from")}
+
+
+def own_seconds(j: dict) -> str:
+    """A job's seconds as the tables show them: its own search; a reused job
+    searched nothing ("reused"; its record's seconds are the original's)."""
+    if j.get("reused_from"):
+        return "reused"
+    return "" if j.get("seconds") is None else f"{j['seconds']:.2f}"
+
+
+def verdicts_text(b: dict) -> str:
+    """A batch's verdict counts in words; with none, why."""
+    vd = ", ".join(f"{k} {v}" for k, v in sorted(b["verdicts"].items()))
+    if vd:
+        return vd
+    if not b["finished"]:
+        return "none yet"
+    cancelled = b["states"].get("cancelled", 0)
+    if cancelled == b["total"]:
+        return "none: the batch was cancelled"
+    return "none" + (f" ({cancelled} cancelled)" if cancelled else "")
 
 
 def verdict_table(jobs: list[dict], expected: dict | None = None) -> str:
@@ -171,8 +195,7 @@ def verdict_table(jobs: list[dict], expected: dict | None = None) -> str:
     rows = []
     for j in jobs:
         v = j.get("verdict") or j["state"]
-        secs = "" if j.get("seconds") is None else f"{j['seconds']:.2f}"
-        row = [j["file"], j["conjecture"] or "-", v, secs, j["id"]]
+        row = [j["file"], j["conjecture"] or "-", v, own_seconds(j), j["id"]]
         if expected is not None:
             want = expected.get((j["file"], j["conjecture"]))
             row.insert(3, "" if want is None else ("as expected" if want == v
@@ -238,7 +261,8 @@ def _show_settled(client, bid, as_json, expected=None, warnings=None) -> int:
     else:
         print(verdict_table(jobs, expected))
         b = client.batch(bid)
-        summary = ", ".join(f"{v} {k}" for k, v in sorted(b["verdicts"].items()))
+        summary = (", ".join(f"{v} {k}" for k, v in sorted(b["verdicts"].items()))
+                   or verdicts_text(b))
         print(f"\n{len(jobs)} job{'s' if len(jobs) != 1 else ''} in batch {bid}: {summary}")
         if expected is not None:
             hits = sum(1 for j in jobs
@@ -302,21 +326,28 @@ def _is_batch(ident: str) -> bool:
 STATUS_ROWS = 50      # rows of a batch's job table without --all
 
 
-def _status_table(client, b, args) -> None:
-    """The batch's jobs (all of them once it has finished or with --all, else
-    the first STATUS_ROWS) with a line on how to see the rest."""
+def _status_jobs(client, b, args) -> tuple[list, int]:
+    """The jobs ``status BATCH`` lists (all of them once the batch has
+    finished or with --all, else the first STATUS_ROWS; only --state's),
+    and how many jobs match."""
     bid, state = b["id"], getattr(args, "state", None)
     if b["finished"] or getattr(args, "all", False):
-        jobs, total = list(client.jobs(bid, state=state)), None
-    else:
-        page = client.batch_jobs(bid, state=state, limit=STATUS_ROWS)
-        jobs, total = page["jobs"], page["total"]
+        jobs = list(client.jobs(bid, state=state))
+        return jobs, len(jobs)
+    page = client.batch_jobs(bid, state=state, limit=STATUS_ROWS)
+    return page["jobs"], page["total"]
+
+
+def _status_table(client, b, args) -> None:
+    """The batch's jobs (see _status_jobs) with a line on how to see the rest."""
+    bid, state = b["id"], getattr(args, "state", None)
+    jobs, total = _status_jobs(client, b, args)
     print()
     if not jobs:
         print(f"no {state} jobs" if state else "no jobs")
         return
     print(verdict_table(jobs))
-    if total is not None and total > len(jobs):
+    if total > len(jobs):
         more = total - len(jobs)
         hint = "" if state or not b["states"].get("running") else \
             f", or only the running ones: nightjar status {bid} --state running"
@@ -330,10 +361,11 @@ def cmd_status(args) -> int:
     if _is_batch(args.id):
         b = client.batch(args.id)
         if args.json:
-            print(json.dumps(b))
+            jobs, total = _status_jobs(client, b, args)
+            print(json.dumps(dict(b, jobs=jobs, jobs_matching=total)))
             return EXIT_OK
         st = ", ".join(f"{k} {v}" for k, v in b["states"].items() if v)
-        vd = ", ".join(f"{k} {v}" for k, v in sorted(b["verdicts"].items())) or "none yet"
+        vd = verdicts_text(b)
         label = f" ({b['label']})" if b.get("label") else ""
         print(f"batch {b['id']}{label}: {b['settled']}/{b['total']} settled "
               f"({b['progress'] * 100:.0f}%)")
@@ -345,12 +377,18 @@ def cmd_status(args) -> int:
     if args.json:
         print(json.dumps(j))
         return EXIT_OK
+    secs = "-" if j.get("seconds") is None else f"{j['seconds']:.3f}"
     rows = [("job", j["id"]), ("batch", j["batch"]), ("file", j["file"]),
             ("conjecture", j["conjecture"] or "-"), ("state", j["state"]),
-            ("verdict", j.get("verdict") or "-"),
-            ("seconds", "-" if j.get("seconds") is None else f"{j['seconds']:.3f}"),
-            ("strategy", j.get("strategy") or "-"), ("attempts", j.get("attempts")),
-            ("worker", j.get("worker") or "-"), ("time limit", f"{j['time_limit']:g}s")]
+            ("verdict", j.get("verdict") or "-")]
+    if j.get("reused_from"):
+        # its record's seconds are the original search's: say so, apart
+        rows += [("reused from", f"{j['reused_from']} (its search took {secs} s)"),
+                 ("seconds", "- (no search in this job)")]
+    else:
+        rows.append(("seconds", secs))
+    rows += [("strategy", j.get("strategy") or "-"), ("attempts", j.get("attempts")),
+             ("worker", j.get("worker") or "-"), ("time limit", f"{j['time_limit']:g}s")]
     if j.get("certificate"):
         from .cli_prove import certificate_text
         rows.append(("certificate", certificate_text(j["certificate"])))
@@ -389,7 +427,9 @@ def _print_proof(kind, answer, cert=None):
     if kind == "proof":
         print(answer["text"] or json.dumps(answer["proof"], indent=1))
     else:
-        print(f"# no proof: the verdict is {answer['verdict']}; a countermodel:")
+        from .cli_prove import model_word
+        print(f"# no proof: the verdict is {answer['verdict']}; a "
+              f"{model_word(answer['verdict'])}:")
         print(answer["text"] or json.dumps(answer["model"], indent=1))
     if cert:
         from .cli_prove import certificate_text
@@ -614,8 +654,8 @@ def register(sub) -> None:
     p.set_defaults(func=cmd_submit)
 
     for name, fn, helptext in (("status", cmd_status, "show a job or a batch"),
-                               ("proof", cmd_proof, "show the proof (or countermodel) of a job, or of "
-                                         "every job of a batch"),
+                               ("proof", cmd_proof, "show the proof (or the model or "
+                                         "countermodel) of a job, or of every job of a batch"),
                                ("cancel", cmd_cancel, "cancel a job or a whole batch")):
         p = sub.add_parser(name, help=helptext)
         p.add_argument("id", metavar="ID", help="a job id (j...) or a batch id (b...)")

@@ -23,6 +23,7 @@ def register(subparsers) -> None:
         description="Read each FILE (native .nj or TPTP), and for each of its "
                     "conjectures (or, without one, the satisfiability of the "
                     "file) search for a proof and for a finite countermodel "
+                    "(a finite model, for the satisfiability of a file) "
                     "under one time limit.  Exit 0 when every obligation got a "
                     "definite verdict, 1 on an input error, 3 otherwise.")
     p.add_argument("files", nargs="+", metavar="FILE")
@@ -37,7 +38,7 @@ def register(subparsers) -> None:
     p.add_argument("--equality", choices=("builtin", "axioms"), default="builtin",
                    help="built-in equality (default) or equality as axioms")
     p.add_argument("--no-models", action="store_true",
-                   help="do not search for finite countermodels")
+                   help="do not search for finite models (or countermodels)")
     p.add_argument("--language", choices=("native", "tptp"),
                    help="read every file in this language (default: told apart from the text)")
     p.add_argument("--include-root", metavar="DIR",
@@ -79,12 +80,20 @@ def _human(path: str, res: dict) -> str:
         lines.append("  proof:")
         lines.append(format_proof(res["proof"]))
     elif res.get("model"):
-        lines.append("  countermodel:" if name else "  model:")
+        lines.append(f"  {model_word(res['status'])}:")
         lines.append("    " + _format_model(res["model"]).replace("\n", "\n    "))
     if res.get("reason") and res["status"] not in (V.THEOREM, V.UNSATISFIABLE):
         lines.append(f"  why: {res['reason']}")
     lines.append(f"  certificate: {certificate_text(res.get('certificate'))}")
     return "\n".join(lines)
+
+
+def model_word(verdict: str | None) -> str:
+    """What a job's finite model is called: a CounterSatisfiable verdict's is
+    a countermodel (the axioms hold in it, the conjecture fails); a
+    Satisfiable one's (a file without conjecture) is a model.  prove, proof
+    and the console say it alike."""
+    return "countermodel" if verdict == V.COUNTER_SATISFIABLE else "model"
 
 
 def certificate_text(cert: dict | None) -> str:

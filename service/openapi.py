@@ -181,7 +181,8 @@ def paths() -> dict:
                                                  "axioms_used": arr(S),
                                                  "text": nullable(S)})), 404, params=(JID,))},
         "/api/jobs/{jid}/model": {"get": op(
-            "A job's countermodel (JSON and text); 404 with code no_model when a "
+            "A job's model (a countermodel for CounterSatisfiable; JSON and text); "
+            "404 with code no_model when a "
             "Satisfiable or CounterSatisfiable verdict came from saturation", 200,
             json_resp("the model, or null while the job has no verdict", obj({"id": S, "state": S,
                                                  "verdict": nullable(S),

@@ -160,13 +160,14 @@ def test_proof_of_a_saturation_verdict_says_why_and_exits_3(json_out, capsys, mo
 
 def _decide(problem, conjecture, settings=None):
     """Theorem for names starting with t, a countermodel for m, saturation
-    (CounterSatisfiable without a model) for s, GaveUp otherwise."""
-    kind = (conjecture or "x")[0]
-    status = {"t": "Theorem", "m": "CounterSatisfiable",
+    (CounterSatisfiable without a model) for s, GaveUp otherwise; a file
+    without conjecture is Satisfiable with a model."""
+    kind = (conjecture or "n")[0] if conjecture else "n"
+    status = {"t": "Theorem", "m": "CounterSatisfiable", "n": "Satisfiable",
               "s": "CounterSatisfiable"}.get(kind, "GaveUp")
     proof = ({"steps": [{"id": 0, "clause": [], "rule": "input"}],
               "conjecture": conjecture, "axioms_used": []} if kind == "t" else None)
-    model = {"size": 1, "functions": {}, "predicates": {}} if kind == "m" else None
+    model = {"size": 1, "functions": {}, "predicates": {}} if kind in "mn" else None
     cert = ({"kind": "proof-replayed", "checked": 1, "detail": ""} if proof else
             {"kind": "model-evaluated", "checked": 1, "detail": ""} if model else
             {"kind": "none", "checked": 0, "detail": ""})
@@ -386,3 +387,89 @@ def test_proof_of_one_job_names_it_and_says_what_was_checked(service, capsys):
     assert json.loads(capsys.readouterr().out)["certificate"]["kind"] == "proof-replayed"
     assert cli.main(["status", t1]) == 0
     assert "certificate  proof replayed, 1 step checked" in capsys.readouterr().out
+
+
+# -- a model is not a countermodel (QA) -----------------------------------------
+
+def test_proof_calls_a_satisfiable_verdicts_model_a_model(service, capsys):
+    sub = service.submit({"problems": [
+        {"main": "sat.nj", "files": {"sat.nj": "axiom a: p(c)\n"}},
+        {"main": "cs.nj", "files": {"cs.nj": "axiom a: p(c)\nconjecture m1: q(c)\n"}}]})
+    service.run()
+    sat, cs = (j["id"] for j in sub["jobs"])
+    assert service.job(sat)["verdict"] == "Satisfiable"
+    assert cli.main(["proof", sat]) == 0
+    out = capsys.readouterr().out
+    assert "# no proof: the verdict is Satisfiable; a model:" in out
+    assert "countermodel" not in out
+    assert cli.main(["proof", cs]) == 0
+    assert "the verdict is CounterSatisfiable; a countermodel:" in capsys.readouterr().out
+    assert cli.main(["proof", sub["batch"]]) == 0
+    blocks = capsys.readouterr().out.split("=== ")[1:]
+    assert "a model:" in blocks[0] and "countermodel" not in blocks[0]
+    assert "a countermodel:" in blocks[1]
+
+
+# -- status BATCH --json carries the jobs the table shows (QA) --------------------
+
+def test_status_json_of_a_batch_lists_the_tables_jobs(service, capsys, monkeypatch):
+    monkeypatch.setattr(cli_client, "STATUS_ROWS", 3)
+    sub = _submit(service, ["t1", "m1", "t2", "t3", "g1"])
+    ids = [j["id"] for j in sub["jobs"]]
+    service.run(2)
+    for extra, want, matching in (((), ids[:3], 5), (("--all",), ids, 5),
+                                  (("--state", "queued"), ids[2:], 3)):
+        assert cli.main(["status", sub["batch"], *extra]) == 0
+        table = [ln.split()[-1] for ln in capsys.readouterr().out.splitlines()
+                 if ln.split() and ln.split()[-1] in ids]
+        assert cli.main(["status", sub["batch"], "--json", *extra]) == 0
+        got = json.loads(capsys.readouterr().out)
+        assert [j["id"] for j in got["jobs"]] == table == want
+        assert got["jobs_matching"] == matching
+        assert got["id"] == sub["batch"] and got["total"] == 5      # the summary as before
+    assert got["jobs"][0]["state"] == "queued" and "verdict" in got["jobs"][0]
+    service.run()                                   # finished: every job, as the table
+    assert cli.main(["status", sub["batch"], "--json"]) == 0
+    got = json.loads(capsys.readouterr().out)
+    assert [j["id"] for j in got["jobs"]] == ids and got["jobs_matching"] == 5
+
+
+# -- a reused job says so, and whose seconds it shows (QA) ---------------------------
+
+def test_a_reused_job_shows_where_its_verdict_and_seconds_come_from(service, capsys):
+    body = {"problem": {"main": "f.nj", "files": {"f.nj": "axiom a: p(c)\nconjecture t1: p(c)\n"}}}
+    first = service.submit(body)
+    service.run()
+    orig = first["jobs"][0]["id"]
+    again = service.submit(dict(body, reuse=True))
+    jid = again["jobs"][0]["id"]
+    assert again["jobs"][0]["reused"] and service.job(jid)["reused_from"] == orig
+    assert cli.main(["status", jid]) == 0
+    rows = dict(ln.split(None, 1) if not ln.startswith(("time limit", "reused from"))
+                else (ln[:11].strip(), ln[11:].strip())
+                for ln in capsys.readouterr().out.splitlines())
+    assert rows["reused from"] == f"{orig} (its search took 0.010 s)"
+    assert rows["seconds"] == "- (no search in this job)"
+    assert cli.main(["status", orig]) == 0                     # a searched job: as before
+    out = capsys.readouterr().out
+    assert "reused from" not in out and "seconds      0.010" in out
+    assert cli.main(["status", again["batch"]]) == 0
+    table = [ln.split() for ln in capsys.readouterr().out.splitlines() if ln.endswith(jid)]
+    assert table == [["f.nj", "t1", "Theorem", "reused", jid]]
+    line = cli_client.job_line(service.job(jid))
+    assert line["reused_from"] == orig and line["seconds"] == 0.01   # the record's, named
+
+
+# -- a cancelled batch says so (QA) -------------------------------------------------
+
+def test_a_cancelled_batch_says_it_was_cancelled(service, capsys):
+    sub = _submit(service, ["t1", "t2"])
+    assert cli.main(["status", sub["batch"]]) == 0
+    assert "  verdicts: none yet" in capsys.readouterr().out.splitlines()
+    assert cli.main(["cancel", sub["batch"]]) == 0
+    capsys.readouterr()
+    assert cli.main(["status", sub["batch"]]) == 0
+    assert "  verdicts: none: the batch was cancelled" in capsys.readouterr().out.splitlines()
+    assert cli_client.verdicts_text({"verdicts": {}, "finished": True, "total": 3,
+                                     "states": {"cancelled": 1, "failed": 2}}) == \
+        "none (1 cancelled)"
