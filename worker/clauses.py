@@ -9,12 +9,21 @@ from __future__ import annotations
 
 from dataclasses import dataclass, field
 
+# Input clauses that no statement states but the input language implies: two
+# different TPTP distinct objects are unequal, so an obligation with distinct
+# objects "a" and "b" has the input clause "a" != "b".  Its ``source`` is
+# DISTINCT_SOURCE and its ``role`` DISTINCT_ROLE, a role no reader gives a
+# statement: the role is what tells such a clause from a statement's (a user
+# may name a statement anything, so the source alone cannot).
+DISTINCT_SOURCE = "distinct objects"
+DISTINCT_ROLE = "distinct_objects"
+
 
 @dataclass(slots=True)
 class InputClause:
     lits: tuple                 # of (sign, atom); variables 0..n-1, first-occurrence order
-    source: str                 # name of the statement it came from
-    role: str                   # that statement's role
+    source: str                 # name of the statement it came from (or DISTINCT_SOURCE)
+    role: str                   # that statement's role (or DISTINCT_ROLE)
     conj: bool                  # derived from the (negated) conjecture
     skolems: tuple = ()         # Skolem symbols introduced for the source formula that occur here
     definitions: tuple = ()     # definition predicates that occur here

@@ -34,18 +34,24 @@ from __future__ import annotations
 
 import sys
 
-from .clauses import ClausifiedProblem, Definition, InputClause, SkolemSymbol
-from .syntax.errors import InputError, LimitError
+from .clauses import (ClausifiedProblem, Definition, InputClause, SkolemSymbol,
+                      DISTINCT_ROLE, DISTINCT_SOURCE)
+from .syntax.errors import InputError, LimitError, Span
 from .syntax.formulas import (And, Atom, Const, Iff, Implies, Not, Or, Quant,
                               Symbol, CONJECTURE, NEGATED_CONJECTURE)
+from .syntax.lexer import Source, tokenize_tptp
 from .syntax.printer import format_formula
 from .syntax.terms import EQ, normalize_vars, symbols as term_symbols
+from .syntax.tptp import formula_objects, distinct_objects
 
 # A node's estimated clause count above which its children are named.
 NAMING_LIMIT = 32
 # Hard limits on the output of one clausification.
 MAX_CLAUSES = 1_000_000
 MAX_LITERALS = 5_000_000
+# Different TPTP distinct objects one obligation may have: each pair becomes
+# an input clause "a" != "b", so n objects give n(n-1)/2 clauses (200: 19,900).
+MAX_DISTINCT_OBJECTS = 200
 # Python recursion limit while clausifying (the readers refuse formulas nested
 # deeper than about a thousand levels; each level costs a few frames here).
 RECURSION_LIMIT = 20_000
@@ -459,6 +465,85 @@ def _clean(lits):
     return tuple((s, a) for (s, _), a in zip(out, atoms))
 
 
+# ------------------------------------------------------------------ distinct objects
+
+def _distinct_clauses(objects: dict) -> list:
+    """For every pair of different distinct objects (``objects``: name ->
+    occurs outside the conjecture, in order of first occurrence) the input
+    clause ``a != b``, the earlier object on the left.  It is
+    conjecture-derived unless both objects occur in statements that are not,
+    so that axioms are called contradictory only on their own objects."""
+    names = list(objects)
+    out = []
+    for i, a in enumerate(names):
+        for b in names[i + 1:]:
+            out.append(InputClause(lits=((False, (EQ, a, b)),), source=DISTINCT_SOURCE,
+                                   role=DISTINCT_ROLE,
+                                   conj=not (objects[a] and objects[b])))
+    return out
+
+
+def _occurrences(st, mine: list):
+    """``(name, span, line text)`` of each distinct object of ``mine`` (the
+    objects of statement ``st``'s formula) where the statement's text has it,
+    in the order written (the text read again with the TPTP tokenizer, so
+    an annotation's strings do not count); without a text, at the statement."""
+    wanted = set(mine)
+    if st.span is None or not st.text:
+        return [(n, st.span, None) for n in mine]
+    try:
+        kinds, texts, offs = tokenize_tptp(Source(st.span.file, st.text))
+    except InputError:
+        return [(n, st.span, None) for n in mine]
+    text = st.text
+    out = []
+    for k, t, o in zip(kinds, texts, offs):
+        if k != "distinct" or t not in wanted:
+            continue
+        before = text.rfind("\n", 0, o)
+        end = text.find("\n", o)
+        rest = text[before + 1:] if end < 0 else text[before + 1:end]
+        if before < 0:               # the statement's first line
+            span = Span(st.span.file, st.span.line, st.span.col + o)
+            line_text = " " * (st.span.col - 1) + rest
+        else:
+            span = Span(st.span.file, st.span.line + text.count("\n", 0, o), o - before)
+            line_text = rest
+        out.append((t, span, line_text))
+    return out
+
+
+def _too_many_objects(problem, conjecture, objects: dict) -> LimitError:
+    """The refusal of an obligation with more than MAX_DISTINCT_OBJECTS
+    distinct objects, at the first occurrence of the first one past the
+    limit, in the order the statements are written."""
+    limit = MAX_DISTINCT_OBJECTS
+    seen: set = set()
+    name, where, line_text = list(objects)[limit], None, None
+    for st in problem.statements:
+        if st.language != "tptp" or (st.role == CONJECTURE and st.name != conjecture):
+            continue
+        mine: list = []
+        formula_objects(st.formula, mine)
+        for t, span, text in _occurrences(st, mine):
+            if t in seen:
+                continue
+            seen.add(t)
+            if len(seen) > limit:
+                name, where, line_text = t, span, text
+                break
+        if where is not None:
+            break
+    return LimitError(
+        f"the obligation has more than {limit} different distinct objects "
+        f"({len(objects)} in all); {name} here is number {limit + 1}. Each "
+        f"pair of distinct objects is unequal and becomes an input clause, and "
+        f"{limit} of them already give {limit * (limit - 1) // 2:,} clauses",
+        where, line_text,
+        f"the limit is {limit} distinct objects per obligation; use ordinary "
+        f"constants with explicit disequality axioms where only some pairs matter")
+
+
 # ------------------------------------------------------------------ driver
 
 def _to_formula(node):
@@ -554,6 +639,9 @@ def _clausify(problem, conjecture, naming_limit):
                              f"'{conjecture}'")
     chosen = [s for s in problem.statements
               if s.role != CONJECTURE or s.name == conjecture]
+    objects = distinct_objects(problem, conjecture)
+    if len(objects) > MAX_DISTINCT_OBJECTS:
+        raise _too_many_objects(problem, conjecture, objects)
 
     found = {}
     for st in problem.statements:
@@ -636,6 +724,10 @@ def _clausify(problem, conjecture, naming_limit):
                 lits=lits, source=st.name, role=st.role, conj=conj,
                 skolems=tuple(n for n in mine if n in used),
                 definitions=tuple(n for n in defs_here if n in used)))
+
+    # What the input language implies: distinct objects are pairwise unequal
+    # (DEVELOPERS.md, "TPTP import").
+    clauses.extend(_distinct_clauses(objects))
 
     figures = {
         "formulas": len(chosen),

@@ -17,6 +17,7 @@ from __future__ import annotations
 from itertools import product
 
 from ..syntax.formulas import Quant
+from ..syntax.tptp import distinct_objects
 from .compiled import Compiler, close, free_and_max
 from .report import CheckReport
 
@@ -128,6 +129,19 @@ def check_model(model, problem, conjecture) -> CheckReport:
     # problem has constants named by numerals)
     numerals = any(str(f).isdigit() for f in (model.get("functions") or {}))
     el = (lambda d: f"#{d}") if numerals else str
+    # Different TPTP distinct objects are different elements (the language
+    # interprets each as itself; DEVELOPERS.md, "TPTP import").
+    first: dict = {}
+    for name in distinct_objects(problem, conjecture):
+        try:
+            (value,) = tables.lookup(name, "function", 0)
+        except ModelError as e:
+            return CheckReport(False, 0, f"malformed model: {e}")
+        if value in first:
+            return CheckReport(False, 0, f"the distinct objects {first[value]} and {name} "
+                                         f"are both the element {el(value)}; different "
+                                         f"distinct objects must be different elements")
+        first[value] = name
     checked = 0
     seen_conj = conjecture is None
     fails_at, fails_for = "", None

@@ -24,6 +24,10 @@ What is checked (DEVELOPERS.md, "Proofs" and "Proof checking"):
   clausification produced for that statement, and, on its own account, every
   symbol of the clause is the statement's or a fresh Skolem / definition
   symbol declared for that statement;
+* every input step of the input language (role ``distinct_objects``): the
+  clause is ``a != b`` for two different distinct objects of the
+  obligation's TPTP statements, which the language makes unequal; nothing
+  else is accepted on the language's account (see :meth:`_Checker._distinct`);
 * every equality axiom step: the clause is reflexivity, symmetry,
   transitivity or a congruence axiom of a known symbol with its arity;
 * a ``finite_domain`` step (the empty clause from input steps only): see
@@ -37,10 +41,12 @@ from __future__ import annotations
 
 import time
 
+from ..clauses import DISTINCT_ROLE, DISTINCT_SOURCE
 from ..syntax import terms as T
 from ..syntax.formulas import (And, Atom, Const, Iff, Implies, Not, Or, Quant,
                                CONJECTURE, NEGATED_CONJECTURE)
 from ..syntax.printer import format_clause, format_term
+from ..syntax.tptp import distinct_objects, is_distinct_object
 from . import exhaust, spotcheck
 from .report import CheckReport
 
@@ -671,8 +677,10 @@ class _Checker:
         self._defs_checked: dict = {}     # statement -> "" (fine) or a countermodel
         self._input_steps: dict = {}      # step id -> the input step (dict)
         self.finite_detail = ""
+        self._objects = None              # the obligation's distinct objects, when needed
         for ic in cp.clauses:
-            self._cp_by_source.setdefault(ic.source, []).append(ic)
+            if ic.role != DISTINCT_ROLE:  # justified by the language, not a statement
+                self._cp_by_source.setdefault(ic.source, []).append(ic)
 
     # -- the proof as a whole
 
@@ -875,10 +883,13 @@ class _Checker:
                           f"there are {count}", sid)
         names = []
         conj = False
+        unequal = []                      # the distinct-object disequations among the parents
         for p in parents:
             ps = self._input_steps[p]
             conj = conj or bool(ps.get("conj"))
-            if ps["formula"] not in names:
+            if ps.get("role") == DISTINCT_ROLE:
+                unequal.append(self.clauses[p][0][1])
+            elif ps["formula"] not in names:
                 names.append(ps["formula"])
         if "conj" in step and step["conj"] is not conj:
             raise Refused(f"the step says conj {step['conj']!r}, but "
@@ -892,6 +903,9 @@ class _Checker:
                     formulas.append(Not(st.formula))
             else:
                 formulas.append(st.formula)
+        # A distinct-object parent holds in every model (the language says so),
+        # so the interpretations evaluated must satisfy it too.
+        formulas.extend(Not(Atom(atom)) for atom in unequal)
         try:
             size, evaluated = exhaust.find_model(formulas, symbols, bound)
         except exhaust.Unevaluable as e:
@@ -905,7 +919,48 @@ class _Checker:
         self.finite_detail = (f"; no interpretation of size 1..{bound} satisfies {what}: "
                               f"{evaluated} interpretations evaluated")
 
+    def _distinct(self, step, sid, clause):
+        """An input step the input language justifies: ``a != b`` for two
+        different distinct objects ``a``, ``b`` of the obligation (written in
+        double quotes in one of its TPTP statements).  The TPTP language
+        interprets a distinct object as itself, so two different ones are
+        unequal in every interpretation: the clause needs no statement.  The
+        step is conjecture-derived exactly when one of the two objects occurs
+        only in conjecture-derived statements (as clausification marks it),
+        so that ContradictoryAxioms rests on the axioms' own objects."""
+        if step.get("formula") != DISTINCT_SOURCE:
+            raise Refused(f"a distinct-object step names {DISTINCT_SOURCE!r} as its "
+                          f"formula, not {step.get('formula')!r}", sid)
+        if len(clause) != 1 or clause[0][0] or not _is_eq(clause[0][1]):
+            raise Refused(f"{_show(clause)} is not a disequation a != b, the only "
+                          f"clause the distinct objects give", sid)
+        a, b = clause[0][1][1], clause[0][1][2]
+        for x in (a, b):
+            if not is_distinct_object(x):
+                raise Refused(f"{_show(clause)} does not follow from the input language: "
+                              f"{format_term(x)} is not a distinct object (only a "
+                              f"double-quoted TPTP name is)", sid)
+        if a == b:
+            raise Refused(f"{_show(clause)} is false: a distinct object equals itself", sid)
+        if self._objects is None:
+            self._objects = distinct_objects(self.problem, self.cp.conjecture)
+        for x in (a, b):
+            if x not in self._objects:
+                raise Refused(f"{x} is not a distinct object of this obligation (none of "
+                              f"its TPTP statements writes it)", sid)
+        want_conj = not (self._objects[a] and self._objects[b])
+        if step.get("conj") is not want_conj:
+            raise Refused(f"the step marks {_show(clause)} as "
+                          f"{'' if step.get('conj') else 'not '}conjecture-derived, but "
+                          f"{'one of the objects occurs only in' if want_conj else 'both objects occur outside'} "
+                          f"the conjecture", sid)
+        if not want_conj:
+            self.inputs_used.add(DISTINCT_SOURCE)
+
     def _input(self, step, sid, clause):
+        if step.get("role") == DISTINCT_ROLE:
+            self._distinct(step, sid, clause)
+            return
         name = step.get("formula")
         st = self._stmts.get(name)
         if st is None:

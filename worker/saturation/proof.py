@@ -8,6 +8,7 @@ them 1..n in dependency order and writes each step's rule fields;
 
 from __future__ import annotations
 
+from worker.clauses import DISTINCT_ROLE
 from worker.syntax.printer import format_clause, format_term
 from worker.syntax.terms import clause_from_json, clause_to_json, from_json, to_json, variables
 
@@ -101,11 +102,25 @@ def _subst_text(subst: dict, parents=(), offsets=None) -> str:
     return "; " + ", ".join(parts)
 
 
+def _distinct_text(st: dict) -> str:
+    """An input step the input language justifies (two distinct objects)."""
+    try:
+        (_s, atom), = clause_from_json(st["clause"])
+        pair = f"{atom[1]} and {atom[2]}"
+    except (ValueError, TypeError, IndexError, KeyError):
+        pair = "two objects"
+    whose = "; one of them occurs only in the conjecture" if st.get("conj") else ""
+    return (f"distinct objects {pair}: different distinct objects are unequal "
+            f"(TPTP language){whose}")
+
+
 def describe_step(st: dict) -> str:
     """The justification column of one step."""
     rule = st["rule"]
     ps = st.get("parents") or []
     if rule == "input":
+        if st.get("role") == DISTINCT_ROLE:
+            return _distinct_text(st)
         who = "negated conjecture" if st.get("conj") else (st.get("role") or "axiom")
         return f"from {st.get('formula')} ({who})"
     if rule == "equality_axiom":

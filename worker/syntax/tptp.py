@@ -9,9 +9,13 @@ connectives take exactly two operands, and mixing needs parentheses.
 Names: lowercase words, single-quoted names (``'a b'``; ``'abc'`` is the same
 symbol as ``abc``), integers and other numbers, and double-quoted distinct
 objects (whose name keeps its double quotes) are symbols; uppercase words are
-variables.  CNF clauses are universally closed over their variables, in order
-of first occurrence.  ``$true`` and ``$false`` are the constants; the typed
-dialects and other ``$`` words are refused with a clear message.
+variables.  Two different distinct objects are unequal (the language
+interprets each as itself): :func:`distinct_objects` lists an obligation's,
+and clausification adds their disequalities.  Numbers are ordinary constants
+(``1 != 2`` needs an axiom).  CNF clauses are universally closed over their
+variables, in order of first occurrence.  ``$true`` and ``$false`` are the
+constants; the typed dialects and other ``$`` words are refused with a clear
+message.
 """
 
 from __future__ import annotations
@@ -20,7 +24,8 @@ import difflib
 
 from .cursor import TokenCursor
 from .errors import LimitError
-from .formulas import FALSE, TRUE, And, Atom, Iff, Implies, Not, Or, Quant, Statement
+from .formulas import (FALSE, TRUE, And, Atom, Iff, Implies, Not, Or, Quant,
+                       Statement, CONJECTURE, NEGATED_CONJECTURE)
 from .lexer import MAX_DEPTH, Source, describe, tokenize_tptp, unquote
 from .terms import intern
 
@@ -32,6 +37,77 @@ _BINARY = frozenset({"&", "|", "=>", "<=", "<=>", "<~>", "~|", "~&"})
 _NONASSOC = frozenset({"=>", "<=", "<=>", "<~>", "~|", "~&"})
 _NAMEKINDS = ("lower", "quoted", "num")
 _TERM_STARTS = frozenset({"var", "lower", "quoted", "num", "distinct", "dollar"})
+
+
+def is_distinct_object(name) -> bool:
+    """Whether a symbol's name is a TPTP distinct object: the reader keeps the
+    double quotes in the name (``"a"``), and refuses a single-quoted name that
+    would read the same (``'"a"'``), so the spelling tells them apart."""
+    return type(name) is str and len(name) >= 2 and name[0] == '"' and name[-1] == '"'
+
+
+def _term_objects(t, out: list) -> None:
+    stack = [t]
+    while stack:
+        x = stack.pop()
+        tx = type(x)
+        if tx is str:
+            if is_distinct_object(x):
+                out.append(x)
+        elif tx is tuple:
+            stack.extend(reversed(x[1:]))
+
+
+def formula_objects(f, out: list) -> None:
+    """Distinct objects in term positions of ``f``, in the order met."""
+    stack = [f]
+    while stack:
+        x = stack.pop()
+        if isinstance(x, Atom):
+            t = x.term
+            if type(t) is tuple:
+                for a in t[1:]:
+                    _term_objects(a, out)
+        elif isinstance(x, Not):
+            stack.append(x.arg)
+        elif isinstance(x, (And, Or)):
+            stack.extend(reversed(x.args))
+        elif isinstance(x, (Implies, Iff)):
+            stack.append(x.right)
+            stack.append(x.left)
+        elif isinstance(x, Quant):
+            stack.append(x.body)
+
+
+def distinct_objects(problem, conjecture) -> dict:
+    """The distinct objects of one proof obligation (its statements: every
+    one that is not a conjecture, plus the conjecture named ``conjecture``),
+    as ``name -> bool``, in order of first occurrence: True when the object
+    occurs in a statement that is not conjecture-derived (neither the
+    conjecture nor a negated conjecture).  Only TPTP statements contribute:
+    the native language has no distinct objects.
+
+    The TPTP language interprets a distinct object as itself, so two
+    different ones are unequal without any axiom saying so (from memory of
+    the TPTP syntax documentation, which gives an example of this kind);
+    clausification adds that disequality for every pair, the proof checker
+    and the model evaluator hold the engines to it (DEVELOPERS.md, "TPTP
+    import")."""
+    out: dict = {}
+    for st in problem.statements:
+        if st.language != "tptp":
+            continue
+        if st.role == CONJECTURE and st.name != conjecture:
+            continue
+        axiom = st.role not in (CONJECTURE, NEGATED_CONJECTURE)
+        found: list = []
+        formula_objects(st.formula, found)
+        for name in found:
+            if name not in out:
+                out[name] = axiom
+            elif axiom:
+                out[name] = True
+    return out
 
 
 def _tdescribe(kind, text):
@@ -167,8 +243,10 @@ class TptpParser(TokenCursor):
                                "parentheses: TPTP needs them when connectives are "
                                "mixed or a non-associative one is chained")
             if self.k[self.i] in ("eof", "."):
+                # the place of the statement's word (where 'fof' starts), not
+                # of its '('
                 raise self.err(f"unbalanced brackets: the '{dialect}(' at "
-                               f"{self.where(open_i)} is never closed")
+                               f"{self.where(start)} is never closed")
             raise self.err(f"expected ')' to end the {dialect} statement begun at "
                            f"{self.where(start)} (or ',' before its annotations), "
                            f"found {self.found()}")
@@ -370,6 +448,12 @@ class TptpParser(TokenCursor):
             return v
         if kind in ("lower", "quoted"):
             name = intern(unquote(text) if kind == "quoted" else text)
+            if kind == "quoted" and is_distinct_object(name):
+                raise self.err(f"the quoted name {text} would be the same symbol as "
+                               f"the distinct object {name}: Nightjar keeps a distinct "
+                               f"object's double quotes in its name",
+                               hint="rename the symbol, or write the distinct object "
+                                    "without the single quotes if that is what is meant")
             self.i += 1
             if self.k[self.i] == "(":
                 return self.application(name, i)
