@@ -31,7 +31,7 @@ import redis
 from flask import Blueprint, current_app, g, jsonify, request
 
 from .auth import api_error, owns, require_owner
-from .config import QUEUE_BATCH, QUEUE_INTERACTIVE, QUEUES
+from .config import MIN_TIME_LIMIT, QUEUE_BATCH, QUEUE_INTERACTIVE, QUEUES
 from .store import FINAL_STATES, STATES
 from worker import verdict as V
 
@@ -88,12 +88,15 @@ def _looks_tptp(name: str, text: str) -> bool:
 
 def _with_axioms(axioms: dict, name: str, text: str) -> dict:
     """A bundle of one conjecture file that includes the axiom file(s).  The
-    includes go at the end so the conjecture's own lines keep their numbers."""
+    includes go at the end so the conjecture's own lines keep their numbers.
+    The axioms' ``language``, when given, is every file's (as ``--language``
+    is for ``prove``), the conjecture file's too."""
     if name in axioms["files"]:
         raise BadRequest("bad_request", f"conjecture file {name!r} has the same name "
                                         f"as a file of the axioms")
     mains = axioms["main"] if isinstance(axioms["main"], list) else [axioms["main"]]
-    tptp = _looks_tptp(name, text)
+    lang = axioms.get("language")
+    tptp = lang == "tptp" if lang else _looks_tptp(name, text)
     incs = []
     for m in mains:
         rel = posixpath.relpath(m, posixpath.dirname(name) or ".")
@@ -101,7 +104,7 @@ def _with_axioms(axioms: dict, name: str, text: str) -> dict:
     sep = "" if text.endswith("\n") or not text else "\n"
     files = dict(axioms["files"])
     files[name] = text + sep + "\n".join(incs) + "\n"
-    return {"main": name, "files": files, "language": None}
+    return {"main": name, "files": files, "language": lang}
 
 
 AXIOMS_PROBE = ".nightjar-axioms.nj"   # the name of the probe below; never a user file
@@ -118,9 +121,11 @@ def refuse_axiom_conjectures(axioms: dict) -> None:
 
     mains = axioms["main"] if isinstance(axioms["main"], list) else [axioms["main"]]
     files = dict(axioms["files"])
-    files[AXIOMS_PROBE] = "".join(f'include "{m}"\n' for m in mains)
+    lang = axioms.get("language")
+    inc = "include('{}').\n" if lang == "tptp" else 'include "{}"\n'
+    files[AXIOMS_PROBE] = "".join(inc.format(m) for m in mains)
     try:
-        problem = load_problem(AXIOMS_PROBE, bundle_reader(files))
+        problem = load_problem(AXIOMS_PROBE, bundle_reader(files), language=lang)
     except InputError as e:
         if e.span is not None and e.span.file == AXIOMS_PROBE:
             return        # e.g. only empty axiom files: the jobs' own reading decides
@@ -150,16 +155,17 @@ def check_problem(bundle: dict) -> list:
 
 
 def _number(body, key, default, lo=None, hi=None, what=""):
+    """A number option of the body; a refusal names it in ``field``."""
     v = body.get(key, default)
     if v is None:
         return default
     if isinstance(v, bool) or not isinstance(v, (int, float)):
-        raise BadRequest("bad_request", f"{key} must be a number")
+        raise BadRequest("bad_request", f"{key} must be a number", field=key)
     if lo is not None and v < lo:
-        raise BadRequest("bad_request", f"{key} must be at least {lo}")
+        raise BadRequest("bad_request", f"{key} must be at least {lo:g}{what}", field=key)
     if hi is not None and v > hi:
-        raise BadRequest("limit", f"{key} {v} is over the server's limit of {hi}{what}",
-                         limit=hi)
+        raise BadRequest("limit", f"{key} {v:g} is over the server's limit of {hi:g}{what}",
+                         limit=hi, field=key)
     return v
 
 
@@ -202,19 +208,20 @@ def accept_submission(s, owner: str, body) -> dict:
     cfg = s.config
     if not isinstance(body, dict):
         raise BadRequest("bad_request", "the body must be a JSON object")
-    time_limit = float(_number(body, "time_limit", cfg.default_time_limit, lo=0.01,
+    time_limit = float(_number(body, "time_limit", cfg.default_time_limit, lo=MIN_TIME_LIMIT,
                                hi=cfg.max_time_limit, what=" seconds"))
     strategy = body.get("strategy")
     if strategy is not None and not isinstance(strategy, str):
-        raise BadRequest("bad_request", "strategy must be a name")
+        raise BadRequest("bad_request", "strategy must be a name", field="strategy")
     if strategy is not None:
         known = strategy_names()
         if strategy not in known:
             raise BadRequest("bad_request", f"unknown strategy {strategy!r}; known: "
-                             + ", ".join(known))
+                             + ", ".join(known), field="strategy")
     label = body.get("label")
     if label is not None and (not isinstance(label, str) or len(label) > 200):
-        raise BadRequest("bad_request", "label must be a text of at most 200 characters")
+        raise BadRequest("bad_request", "label must be a text of at most 200 characters",
+                         field="label")
     reuse = bool(body.get("reuse", False))
     settings = {"strategy": strategy} if strategy else {}
 
@@ -253,7 +260,8 @@ def accept_submission(s, owner: str, body) -> dict:
     if body.get("queue") is not None:
         q = body["queue"]
         if q not in ("interactive", "batch"):
-            raise BadRequest("bad_request", "queue must be 'interactive' or 'batch'")
+            raise BadRequest("bad_request", "queue must be 'interactive' or 'batch'",
+                             field="queue")
         queue_name = QUEUE_INTERACTIVE if q == "interactive" else QUEUE_BATCH
 
     # ... read and clausify every one before anything is stored ...

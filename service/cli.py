@@ -30,6 +30,25 @@ class _Parser(argparse.ArgumentParser):
         print(f"nightjar: {message}", file=sys.stderr)
         raise SystemExit(EXIT_USAGE)
 
+    def parse_known_args(self, args=None, namespace=None):
+        ns, extra = super().parse_known_args(args, namespace)
+        if extra and self._subparsers is None:
+            # a command's own parser: what it does not know is its error, told
+            # with its usage (argparse would leave it to the top-level parser,
+            # whose usage names no command's options)
+            self.error(f"unrecognized arguments: {' '.join(extra)}")
+        return ns, extra
+
+
+def input_error_text(e: InputError) -> str:
+    """How the command line prints an input error: ``file:line:col: error:
+    ...`` with the line and a caret; an error without a place (a file that
+    cannot be opened at all) as one ``nightjar: ...`` line like the others."""
+    if e.span is not None:
+        return e.render()
+    text = e.render()
+    return "nightjar: " + (text[len("error: "):] if text.startswith("error: ") else text)
+
 
 def build_parser() -> argparse.ArgumentParser:
     parser = _Parser(prog="nightjar",
@@ -49,7 +68,7 @@ def main(argv: list[str] | None = None) -> int:
     try:
         return int(args.func(args) or 0)
     except InputError as e:
-        print(e.render(), file=sys.stderr)
+        print(input_error_text(e), file=sys.stderr)
         return EXIT_INPUT
     except UsageError as e:
         print(f"nightjar: {e}", file=sys.stderr)

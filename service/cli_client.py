@@ -39,11 +39,30 @@ def _no_service(e) -> int:
     return EXIT_NO_SERVICE
 
 
+# the submission fields the command line sets from an option
+OPTION_OF_FIELD = {"time_limit": "--time-limit", "strategy": "--strategy",
+                   "label": "--label", "queue": "--queue"}
+
+
+def option_refused(e) -> str | None:
+    """The message of the API's refusal of an option's value (its error
+    names the submission ``field``): a usage error, exit 2, naming the
+    option.  None for any other refusal."""
+    field = e.error.get("field")
+    if e.status != 400 or not field:
+        return None
+    return f"nightjar: {OPTION_OF_FIELD.get(field, field)}: {e}"
+
+
 def _api_error(e) -> int:
     err = e.error
     if err.get("code") == "input_error":
         print(err.get("text") or err.get("message"), file=sys.stderr)
         return EXIT_INPUT
+    refused = option_refused(e)
+    if refused:
+        print(refused, file=sys.stderr)
+        return EXIT_USAGE
     print(f"nightjar: {e}", file=sys.stderr)
     return EXIT_INPUT if e.status in (400, 413) else (EXIT_USAGE if e.status != 404 else 1)
 
@@ -285,17 +304,32 @@ def _submit_refused(args, file, text) -> int:
 
 @_guarded
 def cmd_submit(args) -> int:
+    import math
+
     from worker.syntax.errors import InputError
 
+    from .cli import input_error_text
+    from .cli_prove import time_limit_error
     from .client import ApiError
+    why = time_limit_error(args.time_limit)       # the bound prove and the API use
+    if why is None and args.time_limit is not None and not math.isfinite(args.time_limit):
+        why = f"--time-limit must be a finite number of seconds, not {args.time_limit:g}"
+    if why:
+        print(f"nightjar: {why}", file=sys.stderr)
+        return EXIT_USAGE
     client = _client(args)
     try:
         sub = client.submit_files(args.files, axioms=args.axioms,
                                   time_limit=args.time_limit, label=args.label,
-                                  strategy=args.strategy, reuse=args.reuse)
+                                  strategy=args.strategy, reuse=args.reuse,
+                                  language=args.language, include_root=args.include_root)
     except InputError as e:                              # found on this side
-        return _submit_refused(args, e.span.file if e.span else None, e.render())
+        return _submit_refused(args, e.span.file if e.span else None, input_error_text(e))
     except ApiError as e:                                # found by the service
+        refused = option_refused(e)
+        if refused:                                      # an option's value: usage
+            print(refused, file=sys.stderr)
+            return EXIT_USAGE
         if e.code != "input_error" and e.status not in (400, 413):
             raise
         text = (e.error.get("text") or e.error.get("message") if e.code == "input_error"
@@ -644,11 +678,17 @@ def register(sub) -> None:
     p.add_argument("files", nargs="+", metavar="FILE")
     p.add_argument("--axioms", action="append", metavar="FILE",
                    help="axiom file every FILE is read with (may be repeated)")
-    p.add_argument("--time-limit", type=float, metavar="S", help="seconds per obligation")
+    p.add_argument("--time-limit", type=float, metavar="S",
+                   help="seconds per obligation (at least 0.01, at most the service's limit)")
     p.add_argument("--label", metavar="L")
     p.add_argument("--strategy", metavar="NAME")
     p.add_argument("--reuse", action="store_true",
                    help="answer from a stored verdict of the same problem and settings")
+    p.add_argument("--language", choices=("native", "tptp"),
+                   help="read every file in this language (default: told apart from the text)")
+    p.add_argument("--include-root", metavar="DIR",
+                   help="second place to look for included files (what is found there "
+                        "is sent along)")
     p.add_argument("--wait", action="store_true", help="wait, show progress, print verdicts")
     _client_opts(p)
     p.set_defaults(func=cmd_submit)

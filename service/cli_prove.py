@@ -1,20 +1,31 @@
 """``nightjar prove``: decide every proof obligation of the given files in
 this process and print the verdicts.
 
-Exit codes: 0 every obligation got a definite verdict, 1 an input error, 3
-some obligation ended without a definite verdict.
+Exit codes: 0 every obligation got a definite verdict, 1 an input error, 2 a
+usage error (an unknown strategy, a time limit under MIN_TIME_LIMIT), 3 some
+obligation ended without a definite verdict.
 """
 
 from __future__ import annotations
 
 import json
+import os
 import sys
 
 from worker import verdict as V
 from worker.syntax import disk_reader, load_problem
 from worker.syntax.errors import InputError
 
-EXIT_OK, EXIT_INPUT, EXIT_UNDECIDED = 0, 1, 3
+from service.config import MIN_TIME_LIMIT
+
+EXIT_OK, EXIT_INPUT, EXIT_USAGE, EXIT_UNDECIDED = 0, 1, 2, 3
+
+
+def time_limit_error(seconds: float | None) -> str | None:
+    """Why ``--time-limit`` is refused (prove and submit alike), or None."""
+    if seconds is not None and not seconds >= MIN_TIME_LIMIT:    # NaN too
+        return f"--time-limit must be at least {MIN_TIME_LIMIT:g} seconds, not {seconds:g}"
+    return None
 
 
 def register(subparsers) -> None:
@@ -25,10 +36,12 @@ def register(subparsers) -> None:
                     "file) search for a proof and for a finite countermodel "
                     "(a finite model, for the satisfiability of a file) "
                     "under one time limit.  Exit 0 when every obligation got a "
-                    "definite verdict, 1 on an input error, 3 otherwise.")
+                    "definite verdict, 1 on an input error, 2 on a usage error, "
+                    "3 otherwise.")
     p.add_argument("files", nargs="+", metavar="FILE")
     p.add_argument("--time-limit", type=float, default=10.0, metavar="S",
-                   help="wall-clock seconds per obligation (default 10)")
+                   help="wall-clock seconds per obligation (default 10, at least "
+                        f"{MIN_TIME_LIMIT:g})")
     p.add_argument("--json", action="store_true",
                    help="one JSON object per obligation per line")
     p.add_argument("--strategy", metavar="NAME",
@@ -128,24 +141,29 @@ def run_prove(args) -> int:
     from worker.syntax.warn import for_obligation
 
     if args.strategy and args.strategy not in S.STRATEGIES:
-        print(f"nightjar: unknown strategy {args.strategy!r}; known: "
+        print(f"nightjar: --strategy: unknown strategy {args.strategy!r}; known: "
               + ", ".join(sorted(S.STRATEGIES)), file=sys.stderr)
-        return 2
-    if args.time_limit <= 0:
-        print("nightjar: --time-limit must be positive", file=sys.stderr)
-        return 2
+        return EXIT_USAGE
+    why = time_limit_error(args.time_limit)
+    if why:
+        print(f"nightjar: {why}", file=sys.stderr)
+        return EXIT_USAGE
     settings = V.Settings(limits=V.Limits(time=args.time_limit),
                           strategy=args.strategy, equality=args.equality,
                           model_search=not args.no_models)
     code = EXIT_OK
+    from service.cli import input_error_text
     for path in args.files:
         try:
+            if os.path.isdir(path):      # no place in it to point at
+                raise InputError(f"cannot read '{path}': it is a folder, not a file")
             problem = load_problem(path, disk_reader(), language=args.language,
                                    include_root=args.include_root)
         except InputError as e:
-            print(e.render(), file=sys.stderr)
+            text = input_error_text(e)
+            print(text, file=sys.stderr)
             if args.json:
-                print(json.dumps(input_error_record(path, e.render())))
+                print(json.dumps(input_error_record(path, text)))
             code = EXIT_INPUT
             continue
         warns = _warnings(problem, args.json)

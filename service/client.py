@@ -182,13 +182,18 @@ class Client:
     def submit_files(self, paths: list, *, axioms: list | None = None,
                      time_limit: float | None = None, label: str | None = None,
                      strategy: str | None = None, reuse: bool = False,
-                     queue: str | None = None, root: str | None = None) -> dict:
+                     queue: str | None = None, root: str | None = None,
+                     language: str | None = None, include_root: str | None = None) -> dict:
         """One problem file, several, or conjecture files against axiom
         files.  Raises InputError (from reading on this side), ApiError,
         ServiceUnavailable; an input error names the file as given in
-        ``paths`` / ``axioms``, whichever side found it."""
+        ``paths`` / ``axioms``, whichever side found it.  ``language`` and
+        ``include_root`` mean what they mean for ``prove``: every file is
+        read in that language; includes not found beside the including
+        file are looked for there (and sent along)."""
         names: dict = {}
-        body = submission_body(paths, axioms=axioms, root=root, names=names)
+        body = submission_body(paths, axioms=axioms, root=root, names=names,
+                               language=language, include_root=include_root)
         for k, v in (("time_limit", time_limit), ("label", label),
                      ("strategy", strategy), ("queue", queue)):
             if v is not None:
@@ -225,18 +230,23 @@ def _as_given(path: str, name: str) -> str:
     return os.path.normpath(os.path.join(folder, name))
 
 
-def bundle_of(path: str, root: str | None = None, names: dict | None = None) -> dict:
-    """``{"main", "files"}`` for a file and everything it includes, names
-    relative to ``root`` (default: the current folder).  An input error
-    names the file as the user gave it; ``names``, when given, gets each
-    bundle name -> that name."""
+def bundle_of(path: str, root: str | None = None, names: dict | None = None, *,
+              language: str | None = None, include_root: str | None = None) -> dict:
+    """``{"main", "files"}`` (and ``"language"`` when given) for a file and
+    everything it includes (looked for beside the including file, then in
+    ``include_root``), names relative to ``root`` (default: the current
+    folder).  An input error names the file as the user gave it; ``names``,
+    when given, gets each bundle name -> that name.  A file that cannot be
+    opened at all is an error without a place."""
     from worker.syntax import collect_bundle
     from worker.syntax.errors import InputError, Span
+    if os.path.isdir(path):
+        raise InputError(f"cannot read '{path}': it is a folder, not a file")
     root = os.path.abspath(root or os.getcwd())
     main = _name(path, root)
     prefix = posixpath.dirname(main)
     try:
-        files = collect_bundle(path)
+        files = collect_bundle(path, include_root=include_root, language=language)
     except InputError as e:
         base = os.path.basename(path)
         if base != path and (e.span is None or e.span.file == base):
@@ -250,7 +260,7 @@ def bundle_of(path: str, root: str | None = None, names: dict | None = None) -> 
         out[full] = text
         if names is not None:
             names.setdefault(full, _as_given(path, name))
-    return {"main": main, "files": out}
+    return {"main": main, "files": out, **({"language": language} if language else {})}
 
 
 def as_given(err: dict, names: dict) -> dict:
@@ -269,25 +279,31 @@ def as_given(err: dict, names: dict) -> dict:
 
 
 def submission_body(paths: list, *, axioms: list | None = None,
-                    root: str | None = None, names: dict | None = None) -> dict:
+                    root: str | None = None, names: dict | None = None,
+                    language: str | None = None, include_root: str | None = None) -> dict:
     """The JSON body of a submission of these files (``names``, when given,
-    gets each bundle name -> the file as the user gave it)."""
+    gets each bundle name -> the file as the user gave it; ``language``,
+    ``include_root``: as for :func:`bundle_of`, and with axioms the
+    language goes in the axioms' bundle, which the API applies to every file)."""
     paths = [str(p) for p in paths]
+    opts = {"language": language, "include_root": include_root}
     if axioms:
         files: dict = {}
         mains = []
         for a in axioms:
-            b = bundle_of(str(a), root, names)
+            b = bundle_of(str(a), root, names, **opts)
             files.update(b["files"])
             mains.append(b["main"])
         conj = []
         for p in paths:
-            b = bundle_of(p, root, names)
+            b = bundle_of(p, root, names, **opts)
             extra = {k: v for k, v in b["files"].items() if k != b["main"]}
             files.update(extra)        # a conjecture file's own includes go along
             conj.append({"name": b["main"], "text": b["files"][b["main"]]})
-        return {"axioms": {"main": mains if len(mains) > 1 else mains[0], "files": files},
-                "conjectures": conj}
+        ax = {"main": mains if len(mains) > 1 else mains[0], "files": files}
+        if language:
+            ax["language"] = language
+        return {"axioms": ax, "conjectures": conj}
     if len(paths) == 1:
-        return {"problem": bundle_of(paths[0], root, names)}
-    return {"problems": [bundle_of(p, root, names) for p in paths]}
+        return {"problem": bundle_of(paths[0], root, names, **opts)}
+    return {"problems": [bundle_of(p, root, names, **opts) for p in paths]}

@@ -22,6 +22,10 @@ QUEUE_INTERACTIVE = "nj-interactive"
 QUEUE_BATCH = "nj-batch"
 QUEUES = (QUEUE_INTERACTIVE, QUEUE_BATCH)   # workers listen in this order
 
+# The shortest time limit a job may ask for, in seconds: the API, submit and
+# prove refuse less alike (a usage error on the command line).
+MIN_TIME_LIMIT = 0.01
+
 
 def home_dir() -> Path:
     """The home folder (``NIGHTJAR_HOME`` or ``~/.nightjar``)."""

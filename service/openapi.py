@@ -140,7 +140,7 @@ def components() -> dict:
                 required=("id", "total", "states", "verdicts"))
     error = obj({"error": obj({"code": S, "message": S, "file": nullable(S),
                                "line": nullable(I), "col": nullable(I), "text": S,
-                               "limit": N, "retry_after": N},
+                               "limit": N, "retry_after": N, "field": S},
                               required=("code", "message"))},
                 required=("error",))
     return {
@@ -261,7 +261,7 @@ def document() -> dict:
                                 "submit problems, follow jobs and batches, read verdicts, "
                                 "proofs and countermodels. Errors are JSON "
                                 "{\"error\": {\"code\", \"message\"}}; input errors add "
-                                "file, line, col."},
+                                "file, line, col; a refused submission option adds field."},
         "servers": [{"url": "/"}],
         "security": [{"token": []}],
         "paths": paths(),

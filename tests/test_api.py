@@ -333,3 +333,41 @@ def test_a_conjecture_files_own_include_may_hold_conjectures(env):
     assert r.status_code == 202, r.get_json()
     assert sorted((j["file"], j["conjecture"]) for j in r.get_json()["jobs"]) == [
         ("c1.nj", "g"), ("c1.nj", "h")]
+
+
+def test_a_refused_option_names_its_field(env):
+    """An option's bad value is told apart from bad input by ``field`` (the
+    command line makes it a usage error, exit 2)."""
+    for extra, field, code in (({"strategy": "nope"}, "strategy", "bad_request"),
+                               ({"strategy": 3}, "strategy", "bad_request"),
+                               ({"time_limit": 0.001}, "time_limit", "bad_request"),
+                               ({"time_limit": "ten"}, "time_limit", "bad_request"),
+                               ({"time_limit": 61}, "time_limit", "limit"),
+                               ({"label": "x" * 201}, "label", "bad_request"),
+                               ({"queue": "fast"}, "queue", "bad_request")):
+        r = env.post({"problem": one(), **extra})
+        err = r.get_json()["error"]
+        assert r.status_code == 400 and err["code"] == code and err["field"] == field, extra
+    r = env.post({"problem": one(BAD)})                 # bad input: no field
+    assert r.status_code == 400 and "field" not in r.get_json()["error"]
+    r = env.post({"problem": {"main": "x.nj"}})         # a malformed body: no field either
+    assert r.status_code == 400 and "field" not in r.get_json()["error"]
+
+
+def test_the_axioms_language_is_every_files_language(env):
+    """With axioms and conjecture files, ``axioms.language`` forces the
+    language of the conjecture files too (as --language does for prove)."""
+    ax = {"main": "ax.p", "files": {"ax.p": "fof(a1, axiom, ![X]: (p(X) => q(X))).\n"
+                                            "fof(a2, axiom, p(c)).\n"}}
+    tptp = {"name": "g.txt", "text": "% nothing here tells the language\n"
+                                     "fof(g, conjecture, q(c)).\n"}
+    r = env.post({"axioms": dict(ax, language="tptp"), "conjectures": [tptp]})
+    assert r.status_code == 202, r.get_json()
+    jid = r.get_json()["jobs"][0]["id"]
+    assert env.client.get(f"/api/jobs/{jid}/problem", headers=env.h).get_json()["language"] == "tptp"
+    native = {"name": "h.nj", "text": "conjecture h: q(c)\n"}
+    r = env.post({"axioms": dict(ax, language="tptp"), "conjectures": [native]})
+    err = r.get_json()["error"]
+    assert r.status_code == 400 and err["code"] == "input_error" and err["file"] == "h.nj"
+    r = env.post({"axioms": ax, "conjectures": [native]})     # told apart: fine
+    assert r.status_code == 202, r.get_json()

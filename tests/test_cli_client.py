@@ -364,12 +364,11 @@ def test_submit_json_prints_the_services_input_error_as_an_object(
     rec = json.loads(out)
     assert rec["status"] == "InputError" and rec["file"] == "ax.nj"
     assert rec["reason"] == err.strip() and err.startswith("ax.nj:2:1: error:")
-    # a refusal without a place (a time limit over the service's): still an object
-    assert cli.main(["submit", "--json", "c.nj", "--time-limit", "1e9"]) == 1
+    # an option's value the service refuses is a usage error (exit 2), not
+    # bad input: no InputError object, as prove --json prints none for one
+    assert cli.main(["submit", "--json", "c.nj", "--time-limit", "1e9"]) == 2
     out, err = capsys.readouterr()
-    rec = json.loads(out)
-    assert rec["status"] == "InputError" and rec["file"] == "c.nj"
-    assert "time_limit" in rec["reason"] and rec["reason"] == err.strip()
+    assert out == "" and err.startswith("nightjar: --time-limit: time_limit 1e+09 is over")
 
 
 def test_proof_of_one_job_names_it_and_says_what_was_checked(service, capsys):
@@ -473,3 +472,115 @@ def test_a_cancelled_batch_says_it_was_cancelled(service, capsys):
     assert cli_client.verdicts_text({"verdicts": {}, "finished": True, "total": 3,
                                      "states": {"cancelled": 1, "failed": 2}}) == \
         "none (1 cancelled)"
+
+
+# -- option errors are usage errors, found here or by the service (QA) -------------
+
+def test_option_errors_exit_2_whichever_side_finds_them(service, tmp_path, monkeypatch,
+                                                          capsys):
+    (tmp_path / "c.nj").write_text("axiom a: p(c)\nconjecture t1: p(c)\n")
+    monkeypatch.chdir(tmp_path)
+    assert cli.main(["submit", "c.nj", "--strategy", "nope"]) == 2     # the service's 400
+    assert capsys.readouterr().err.startswith("nightjar: --strategy: unknown strategy 'nope'")
+    assert cli.main(["submit", "c.nj", "--time-limit", "1000"]) == 2
+    err = capsys.readouterr().err
+    assert err.startswith("nightjar: --time-limit: time_limit 1000 is over the server's "
+                          "limit of 300 seconds")
+    assert cli.main(["submit", "c.nj", "--label", "x" * 201]) == 2
+    assert capsys.readouterr().err.startswith("nightjar: --label: label must be")
+    assert cli.main(["submit", "c.nj", "--time-limit", "0.01"]) == 0   # the bound itself
+    capsys.readouterr()
+    # input errors stay 1: a file the service cannot read
+    (tmp_path / "ax.nj").write_text("axiom a: p(c)\nconjecture stray: p(c)\n")
+    assert cli.main(["submit", "c.nj", "--axioms", "ax.nj"]) == 1
+
+
+def test_the_shortest_time_limit_is_one_bound_for_prove_submit_and_the_api(
+        service, tmp_path, monkeypatch, capsys):
+    from service.config import MIN_TIME_LIMIT
+    (tmp_path / "c.nj").write_text("axiom a: p(c)\nconjecture g: p(c)\n")
+    monkeypatch.chdir(tmp_path)
+    assert cli.main(["prove", "c.nj", "--time-limit", "0.001"]) == 2
+    assert capsys.readouterr().err == ("nightjar: --time-limit must be at least 0.01 "
+                                       "seconds, not 0.001\n")
+    # accepted (the stand-in engine of the fixture answers GaveUp: exit 3)
+    assert cli.main(["prove", "c.nj", "--time-limit", str(MIN_TIME_LIMIT)]) == 3
+    assert "c.nj: conjecture g: GaveUp" in capsys.readouterr().out
+    monkeypatch.setattr(cli_client, "_client", lambda args: pytest.fail("no request"))
+    for bad in ("0.001", "0", "-1", "nan", "inf"):
+        assert cli.main(["submit", "c.nj", "--time-limit", bad]) == 2, bad
+        assert capsys.readouterr().err.startswith("nightjar: --time-limit must be")
+    from service.client import ApiError
+    body = {"problem": {"main": "c.nj", "files": {"c.nj": "conjecture g: p implies p\n"}}}
+    with pytest.raises(ApiError) as e:
+        service.submit(dict(body, time_limit=MIN_TIME_LIMIT / 2))
+    assert e.value.status == 400 and e.value.error["field"] == "time_limit"
+    assert "at least 0.01 seconds" in str(e.value)
+    assert service.submit(dict(body, time_limit=MIN_TIME_LIMIT))["jobs"]
+
+
+# -- submit reads files as prove and check do (QA) -----------------------------------
+
+def test_submit_has_include_root_and_language(service, tmp_path, monkeypatch, capsys):
+    (tmp_path / "lib").mkdir()
+    (tmp_path / "lib" / "ax.nj").write_text("axiom a: forall x. p(x) implies q(x)\n")
+    (tmp_path / "c.nj").write_text('include "ax.nj"\naxiom b: p(c)\nconjecture t1: q(c)\n')
+    monkeypatch.chdir(tmp_path)
+    assert cli.main(["submit", "c.nj"]) == 1                  # ax.nj is not beside c.nj
+    assert capsys.readouterr().err.startswith("c.nj:1:")
+    assert cli.main(["prove", "c.nj", "--include-root", "lib"]) == 0
+    capsys.readouterr()
+    assert cli.main(["submit", "c.nj", "--include-root", "lib", "--json"]) == 0
+    jid = json.loads(capsys.readouterr().out)["jobs"][0]["id"]
+    sent = service.problem(jid)
+    assert sent["files"]["ax.nj"] == "axiom a: forall x. p(x) implies q(x)\n"
+    service.run()
+    assert service.job(jid)["verdict"] == "Theorem"
+
+    # --language: every file is read in it, here and by the service
+    (tmp_path / "t.p").write_text("fof(a, axiom, p(c)).\nfof(t1, conjecture, p(c)).\n")
+    assert cli.main(["submit", "t.p", "--language", "tptp", "--json"]) == 0
+    jid = json.loads(capsys.readouterr().out)["jobs"][0]["id"]
+    assert service.problem(jid)["language"] == "tptp"
+    assert cli.main(["submit", "t.p", "--language", "native"]) == 1
+    assert capsys.readouterr().err.startswith("t.p:1:")
+    (tmp_path / "ax.p").write_text("fof(a, axiom, p(c)).\n")
+    (tmp_path / "g.nj").write_text("conjecture t1: p(c)\n")       # native, ending and text
+    assert cli.main(["submit", "g.nj", "--axioms", "ax.p"]) == 0      # each told apart
+    capsys.readouterr()
+    assert cli.main(["submit", "g.nj", "--axioms", "ax.p", "--language", "tptp"]) == 1
+    assert capsys.readouterr().err.startswith("g.nj:1:")              # read as TPTP, refused
+
+
+def test_an_unknown_option_of_submit_prints_submits_usage(capsys, monkeypatch):
+    monkeypatch.setenv("NIGHTJAR_SERVER", "http://127.0.0.1:9")      # never reached
+    with pytest.raises(SystemExit) as e:
+        cli.main(["submit", "p1.p", "--no-such-option", "D"])
+    assert e.value.code == 2
+    err = capsys.readouterr().err
+    assert err.startswith("usage: nightjar submit ") and "--include-root" in err
+    assert err.rstrip().endswith("nightjar: unrecognized arguments: --no-such-option D")
+    with pytest.raises(SystemExit) as e:
+        cli.main(["token", "add", "x", "--bogus"])                   # nested commands too
+    assert e.value.code == 2
+    assert capsys.readouterr().err.startswith("usage: nightjar token add ")
+
+
+# -- files that cannot be opened: one line, no made-up place (QA) ---------------------
+
+@pytest.mark.parametrize("command", ["prove", "submit"])
+def test_a_missing_file_or_a_folder_is_one_nightjar_line(command, tmp_path, monkeypatch,
+                                                         capsys):
+    monkeypatch.setenv("NIGHTJAR_SERVER", "http://127.0.0.1:9")      # never reached
+    monkeypatch.chdir(tmp_path)
+    (tmp_path / "sched").mkdir()
+    assert cli.main([command, "nothere.nj"]) == 1
+    assert capsys.readouterr().err == "nightjar: cannot read 'nothere.nj': no such file\n"
+    assert cli.main([command, "sched"]) == 1
+    assert capsys.readouterr().err == \
+        "nightjar: cannot read 'sched': it is a folder, not a file\n"
+    assert cli.main([command, str(tmp_path / "sched"), "--json"]) == 1
+    out, err = capsys.readouterr()
+    rec = json.loads(out)
+    assert rec["status"] == "InputError" and rec["reason"] == err.strip()
+    assert ":1:1:" not in err and err.startswith("nightjar: cannot read ")
