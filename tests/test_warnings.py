@@ -342,3 +342,45 @@ def test_submit_wait_json_lists_each_jobs_warnings(service, tmp_path, monkeypatc
     code, out, err = run(["submit", "c/one.nj", "c/two.nj", "--axioms", "ax/rules.nj"],
                          capsys)
     assert code == 0 and err.count("warning:") == 2
+
+
+def test_the_documented_goal_first_example_holds(tmp_path, capsys):
+    """README and DEVELOPERS.md: in a band, ((x * y) * x) * y = x * y needs an
+    inference between two axioms; goal-first gives up, the default proves it."""
+    f = write(tmp_path, "band.nj",
+              "axiom assoc: forall x y z. (x * y) * z = x * (y * z)\n"
+              "axiom idem: forall x. x * x = x\n"
+              "conjecture c1: forall x y. ((x * y) * x) * y = x * y\n")
+    code, out, _ = run(["prove", f, "--strategy", "goal-first", "--time-limit", "5",
+                        "--no-models", "--json"], capsys)
+    assert code == 3 and json.loads(out)["status"] == "GaveUp"
+    code, out, _ = run(["prove", f, "--time-limit", "10", "--json"], capsys)
+    assert code == 0 and json.loads(out)["status"] == "Theorem"
+
+
+def test_warnings_never_fail_on_whatever_reads():
+    """Texts cut from the corpus at random places: whatever reads gets its
+    warnings without an exception, with and without the file's text."""
+    import random
+    rnd = random.Random(7)
+    texts = [Path(f).read_text() for f in
+             sorted(glob.glob(str(REPO / "corpus/**/*.nj"), recursive=True))
+             + sorted(glob.glob(str(REPO / "corpus/**/*.p"), recursive=True))
+             if "include" not in Path(f).read_text()]
+    read = 0
+    for _ in range(600):
+        t = rnd.choice(texts)
+        a = rnd.randrange(len(t))
+        b = min(len(t), a + rnd.randrange(1, 12))
+        cut = t[:a] + rnd.choice(["", "v", "(", ")", "'", " x", "forall z."]) + t[b:]
+        name = "t.p" if "fof(" in t or "cnf(" in t else "t.nj"
+        try:
+            problem = parse_text(cut, name)
+        except Exception as e:                  # noqa: BLE001
+            assert type(e).__name__ in ("InputError", "LimitError"), e
+            continue
+        read += 1
+        for text_of in (None, lambda n: cut, lambda n: cut[: len(cut) // 2]):
+            for w in find_warnings(problem, text_of):
+                assert w.render().startswith(f"{name}:{w.span.line}:{w.span.col}: warning: ")
+    assert read > 100
