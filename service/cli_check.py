@@ -89,17 +89,20 @@ def warnings_json(problem) -> list:
     return [w.to_json() for w in find_warnings(problem, disk_text)]
 
 
-def submission_warnings(files: list, axioms: list | None = None) -> dict:
+def submission_warnings(files: list, axioms: list | None = None, *,
+                        language: str | None = None,
+                        include_root: str | None = None) -> dict:
     """The warnings of what ``nightjar submit`` sends, read here from disk as
     ``check`` reads it: ``{file as given: [InputWarning]}`` for each FILE.
     With axiom files every FILE's list also holds the warnings about the
     axioms, and the whole submission counts as one problem (a constant two
     conjecture files share is not reported, though each job reads only one of
     them).  A file that cannot be read is left out: the submission itself
-    reports it."""
+    reports it.  ``language`` and ``include_root`` as submit's options."""
     def read(path):
         try:
-            return load_problem(path, disk_reader())
+            return load_problem(path, disk_reader(), language=language,
+                                include_root=include_root)
         except InputError:
             return None
 

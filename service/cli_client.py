@@ -336,7 +336,8 @@ def cmd_submit(args) -> int:
                 else f"nightjar: {e}")
         return _submit_refused(args, e.error.get("file"), text)
     from .cli_check import submission_report, submission_warnings
-    warned, job_warnings = submission_report(submission_warnings(args.files, args.axioms))
+    warned, job_warnings = submission_report(submission_warnings(
+        args.files, args.axioms, language=args.language, include_root=args.include_root))
     if not args.json:                   # warnings of the files as read here
         for w in warned:
             print(w.render(), file=sys.stderr)

@@ -384,3 +384,14 @@ def test_warnings_never_fail_on_whatever_reads():
             for w in find_warnings(problem, text_of):
                 assert w.render().startswith(f"{name}:{w.span.line}:{w.span.col}: warning: ")
     assert read > 100
+
+
+def test_submit_reads_for_warnings_as_it_reads_to_send(service, tmp_path,  # noqa: F811
+                                                       monkeypatch, capsys):
+    monkeypatch.chdir(tmp_path)
+    write(tmp_path, "lib/rules.nj", "axiom a1: forall u. admin(v) implies staff(u)\n")
+    write(tmp_path, "work/c.nj", 'include "rules.nj"\nconjecture g: staff(bob)\n')
+    code, out, err = run(["submit", "--json", "work/c.nj", "--include-root", "lib"], capsys)
+    assert code == 0
+    (w,) = json.loads(out)["warnings"]
+    assert (w["name"], w["file"], w["line"]) == ("v", "lib/rules.nj", 1)
