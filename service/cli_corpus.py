@@ -1,16 +1,20 @@
 """``nightjar corpus run`` and ``nightjar corpus diff``.
 
-    nightjar corpus run DIR|MANIFEST [--wait] [--full] [--json]
+    nightjar corpus run DIR|MANIFEST [--wait] [--full] [--json] [--allow-removed]
     nightjar corpus diff [RUN_A RUN_B] [--suite NAME] [--json] [--threshold SECONDS]
+                         [--across-suites] [--allow-removed]
     nightjar corpus runs [--suite NAME] [--json]
 
 ``run`` loads the suite on this side (every problem in it reported at once,
 with its file:line:col, before anything is sent), submits it as one run,
 and with ``--wait`` follows it with a progress bar and prints the report.
-``diff`` compares two runs (default: the suite's last two).  Exit codes
-(DEVELOPERS.md): 0 fine; 1 input error; 2 usage; 3 some obligation without a
-definite verdict; 4 no service; 5 something lost, flipped, unexpected, or
-the axioms contradictory.
+``diff`` compares two runs (default: the suite's last two; runs of two
+different suites only with ``--across-suites``).  Exit codes (DEVELOPERS.md):
+0 fine; 1 input error; 2 usage (also: runs of two suites without
+``--across-suites``); 3 some obligation without a definite verdict; 4 no
+service; 5 something lost, flipped, unexpected, or on contradictory axioms;
+6 none of that, but obligations settled in the base run were removed from the
+suite (``--allow-removed`` accepts that).
 """
 
 from __future__ import annotations
@@ -20,6 +24,7 @@ import sys
 import time
 
 EXIT_OK, EXIT_INPUT, EXIT_USAGE, EXIT_UNDECIDED, EXIT_NO_SERVICE, EXIT_REGRESSION = 0, 1, 2, 3, 4, 5
+EXIT_REMOVED = 6
 
 
 def _client(args):
@@ -51,13 +56,34 @@ def _secs(x) -> str:
     return "-" if x is None else f"{x:.2f}"
 
 
-def axioms_line(summary: dict, guards: list) -> str:
+def _plural(n: int, word: str, many: str | None = None) -> str:
+    return f"{n} {word if n == 1 else (many or word + 's')}"
+
+
+def axioms_line(summary: dict, guards: list, contradictions: list | None = None) -> str:
     c = summary.get("axioms_consistent")
     if c is False:
-        bad = [g for g in guards if g.get("consistent") is False]
-        return (f"AXIOMS CONTRADICTORY: {len(bad)} axiom set{'s' if len(bad) != 1 else ''} "
-                f"refuted on {'their' if len(bad) != 1 else 'its'} own; every Theorem "
-                f"resting on {'them' if len(bad) != 1 else 'it'} is vacuous")
+        if contradictions is None:       # a view from before the field: the guards only
+            contradictions = [{"found_by": "axiom check"} for g in guards
+                              if g.get("consistent") is False]
+        by_check = sum(1 for x in contradictions if x.get("found_by") == "axiom check")
+        by_verdict = len(contradictions) - by_check
+        how = []
+        if by_check:
+            how.append(f"{by_check} refuted on {'its' if by_check == 1 else 'their'} own by "
+                       f"the axiom check")
+        if by_verdict:
+            how.append(f"{by_verdict} shown contradictory by a ContradictoryAxioms verdict")
+        n = len(contradictions)
+        on = summary.get("on_contradictory_axioms")
+        them = "it" if n == 1 else "them"
+        marked = (f"the {_plural(on, 'obligation')} on {them} "
+                  f"{'says' if on == 1 else 'say'} nothing about "
+                  f"{'its conjecture' if on == 1 else 'their conjectures'} (a Theorem there "
+                  f"holds only vacuously)"
+                  if on is not None else f"every Theorem resting on {them} is vacuous")
+        return (f"AXIOMS CONTRADICTORY: {_plural(n, 'axiom set')}"
+                + (f" ({'; '.join(how)})" if how else "") + f"; {marked}")
     if c is True:
         if not guards:
             return "axioms: none to check"
@@ -99,7 +125,7 @@ def report_text(view: dict) -> str:
     s, rows = view["summary"], view["rows"]
     out = [f"run {s['run']} of suite {s['suite']}: {s['total']} obligations "
            f"({_batch_part(s)}{', full rerun' if s.get('full') else ''})",
-           axioms_line(s, view["guards"])]
+           axioms_line(s, view["guards"], view.get("contradictions"))]
     w = max([len(r["key"]) for r in rows] + [10])
     out.append("")
     out.append(f"  {'obligation':<{w}}  {'verdict':<19} {'seconds':>8}  how")
@@ -109,7 +135,9 @@ def report_text(view: dict) -> str:
                              else "model re-evaluated") + ")") if r["reused"] else "searched"
         flags = []
         if r["vacuous"]:
-            flags.append("VACUOUS: the axioms are contradictory")
+            flags.append("VACUOUS: the axioms are contradictory, every conjecture follows")
+        elif r.get("axioms_contradictory"):
+            flags.append("AXIOMS CONTRADICTORY: every conjecture follows, this one too")
         if r["unexpected"]:
             flags.append(f"UNEXPECTED: the manifest expects {r['expected']}")
         out.append(f"  {r['key']:<{w}}  {verdict:<19} {_secs(r['seconds']):>8}  {how}"
@@ -147,38 +175,84 @@ def axiom_changes_lines(ch: dict | None) -> list:
 
 
 def diff_text(d: dict) -> str:
-    out = [f"suite {d['suite']}: run {d['a']} -> run {d['b']}"]
-    cons = d["axioms_consistent"]["b"]
-    if cons is False:
-        out.append("AXIOMS CONTRADICTORY in run " + d["b"] + ": every Theorem of it is vacuous")
+    """The comparison in words: every obligation on one line (an unexpected
+    one on its transition's line, tagged), the loud kinds first."""
+    suites = d.get("suites") or {"a": d.get("suite"), "b": d.get("suite")}
+    out = []
+    if d.get("across_suites"):
+        out.append(f"SUITES DIFFER: run {d['a']} is of suite {suites['a']}, run {d['b']} of "
+                   f"suite {suites['b']}; compared because --across-suites asked for it: "
+                   f"obligations are matched by file#conjecture name only, so what is gained, "
+                   f"lost, added or removed mostly says that the files differ")
+        out.append(f"suites {suites['a']} -> {suites['b']}: run {d['a']} -> run {d['b']}")
+    else:
+        out.append(f"suite {d['suite']}: run {d['a']} -> run {d['b']}")
+    contradictory = d.get("contradictory", [])
+    if d["axioms_consistent"]["b"] is False or contradictory:
+        out.append(f"AXIOMS CONTRADICTORY in run {d['b']}: the verdicts of its "
+                   f"{_plural(len(contradictory), 'obligation')} on those axioms say nothing "
+                   f"about the conjectures (a Theorem there holds only vacuously); fix the axioms")
     out.extend(axiom_changes_lines(d.get("axiom_changes")))
+    expected = {x["key"]: x["expected"] for x in d["unexpected"]}
+    shown = set()
+    kinds = ("contradictory", "flipped", "lost", "gained", "answered", "unexpected", "slower",
+             "faster", "axioms_changed", "added", "removed")
+    w = max([len(x["key"]) for k in kinds for x in d.get(k, [])] + [10])
+    lw = 13 if contradictory else 11          # the label column
     lines = []
-    w = max([len(x["key"]) for k in ("flipped", "lost", "gained", "unexpected", "slower",
-                                     "faster", "axioms_changed", "added", "removed")
-             for x in d[k]] + [10])
+
+    def tag(key):
+        return (f"  UNEXPECTED: the manifest expects {expected[key]}" if key in expected else "")
+
+    def was(x):
+        if x.get("before") is None:
+            return "(new)"
+        return x["before"] + (" (on contradictory axioms)" if x.get("before_contradictory")
+                              else "")
+
+    def say(label, x, text):
+        shown.add(x["key"])
+        lines.append(f"{label:<{lw}} {x['key']:<{w}}  {text}{tag(x['key'])}")
+
+    for x in contradictory:
+        say("CONTRADICTORY", x, f"{was(x)} -> {x['after']} (the axioms are contradictory)")
     for x in d["flipped"]:
-        lines.append(f"FLIPPED     {x['key']:<{w}}  {x['before']} -> {x['after']}")
+        say("FLIPPED", x, f"{was(x)} -> {x['after']}")
     for x in d["lost"]:
-        lines.append(f"lost        {x['key']:<{w}}  {x['before']} -> {x['after']}")
+        say("lost", x, f"{was(x)} -> {x['after']}")
     for x in d["unexpected"]:
-        lines.append(f"unexpected  {x['key']:<{w}}  {x['verdict']} (the manifest expects "
+        if x["key"] in shown or any(x["key"] == y["key"] for y in d["added"]):
+            continue
+        shown.add(x["key"])
+        lines.append(f"{'unexpected':<{lw}} {x['key']:<{w}}  {x['verdict']} (the manifest expects "
                      f"{x['expected']})")
+    for x in d["removed"]:
+        if x.get("settled"):
+            say("REMOVED", x, f"(was {x['before']}: settled, and no longer in the suite)")
     for x in d["gained"]:
-        lines.append(f"gained      {x['key']:<{w}}  {x['before'] or '(new)'} -> {x['after']}")
+        say("gained", x, f"{was(x)} -> {x['after']} (as expected)")
+    for x in d.get("answered", []):
+        say("answered", x, f"{was(x)} -> {x['after']} (no expectation in the manifest)")
     for x in d["axioms_changed"]:
         ch = " ".join(["+" + a for a in x["added"]] + ["-" + a for a in x["removed"]])
-        lines.append(f"axioms used {x['key']:<{w}}  {ch}")
+        lines.append(f"{'axioms used':<{lw}} {x['key']:<{w}}  {ch}")
     for k in ("slower", "faster"):
         for x in d[k]:
-            lines.append(f"{k:<11} {x['key']:<{w}}  {x['before']:.2f} s -> {x['after']:.2f} s")
+            lines.append(f"{k:<{lw}} {x['key']:<{w}}  {x['before']:.2f} s -> {x['after']:.2f} s")
     for x in d["added"]:
-        lines.append(f"added       {x['key']:<{w}}  {x['after']}")
+        say("added", x, f"{x['after']}")
     for x in d["removed"]:
-        lines.append(f"removed     {x['key']:<{w}}  (was {x['before']})")
+        if not x.get("settled"):
+            say("removed", x, f"(was {x['before']})")
     out.extend(lines or ["no changes"])
-    out.append(f"{len(d['flipped'])} flipped, {len(d['lost'])} lost, {len(d['unexpected'])} "
-               f"unexpected, {len(d['gained'])} gained, {len(d['axioms_changed'])} "
-               f"proof{'s' if len(d['axioms_changed']) != 1 else ''} using other axioms; run {d['b']}: {d['reused']} reused, {d['searched']} searched"
+    n = {k: len(d.get(k, [])) for k in kinds}
+    rs = d.get("removed_settled", 0)
+    out.append(f"{n['contradictory']} on contradictory axioms, {n['flipped']} flipped, "
+               f"{n['lost']} lost, {n['unexpected']} unexpected, {n['gained']} gained, "
+               f"{n['answered']} answered without an expectation, {n['added']} added, "
+               f"{n['removed']} removed ({rs} of them settled), {n['axioms_changed']} "
+               f"proof{'s' if n['axioms_changed'] != 1 else ''} using other axioms; "
+               f"run {d['b']}: {d['reused']} reused, {d['searched']} searched"
                + ("" if d.get("finished", True) else " (a run is still going)"))
     return "\n".join(out)
 
@@ -208,27 +282,52 @@ class Bar:
             self.stream.flush()
 
 
-def exit_code(summary: dict) -> int:
+def exit_code(summary: dict, allow_removed: bool = False) -> int:
+    """``corpus run --wait``: 5 regression, 6 settled obligations of the
+    previous run removed (unless allowed), 3 undecided, else 0."""
     if (summary.get("lost") or summary.get("flipped") or summary.get("unexpected")
-            or summary.get("axioms_consistent") is False):
+            or summary.get("contradictory") or summary.get("axioms_consistent") is False):
         return EXIT_REGRESSION
+    if summary.get("removed_settled") and not allow_removed:
+        return EXIT_REMOVED
     if summary.get("undecided"):
         return EXIT_UNDECIDED
     return EXIT_OK
 
 
+def diff_exit_code(d: dict, allow_removed: bool = False) -> int:
+    """``corpus diff``: 5 on a regression, 6 when the only trouble is that
+    obligations settled in the base run were removed (unless allowed), else 0."""
+    if d["regression"]:
+        return EXIT_REGRESSION
+    if d.get("removed_settled") and not allow_removed:
+        return EXIT_REMOVED
+    return EXIT_OK
+
+
+def removed_note(d: dict) -> str:
+    keys = [x["key"] for x in d.get("removed", []) if x.get("settled")]
+    return (f"nightjar: {_plural(len(keys), 'obligation')} settled in run {d['a']} "
+            f"{'is' if len(keys) == 1 else 'are'} no longer in the suite ({', '.join(keys)}); "
+            f"that fails the gate (exit {EXIT_REMOVED}) unless --allow-removed says the removal "
+            f"is meant")
+
+
 def json_summary(view: dict) -> dict:
     s = view["summary"]
     keys = ("run", "suite", "batch", "previous", "total", "settled", "reused", "searched",
-            "gained", "lost", "flipped", "unexpected", "axioms_consistent", "vacuous",
-            "theorems", "counter_satisfiable", "undecided", "time_saved_seconds",
-            "reuse_check_seconds", "search_seconds", "finished", "full")
+            "contradictory", "gained", "answered", "lost", "flipped", "unexpected", "added",
+            "removed", "removed_settled", "axioms_consistent", "contradictory_sets",
+            "on_contradictory_axioms", "vacuous", "theorems", "counter_satisfiable",
+            "undecided", "time_saved_seconds", "reuse_check_seconds", "search_seconds",
+            "finished", "full")
     out = {k: s.get(k) for k in keys}
     out["guards"] = view["guards"]
     if view.get("diff"):
         d = view["diff"]
-        out["changes"] = {k: d[k] for k in ("gained", "lost", "flipped", "unexpected",
-                                            "axioms_changed", "slower", "faster")}
+        out["changes"] = {k: d[k] for k in ("contradictory", "gained", "answered", "lost",
+                                            "flipped", "unexpected", "added", "removed",
+                                            "axioms_changed", "slower", "faster") if k in d}
         if "axiom_changes" in d:
             out["changes"]["axiom_changes"] = d["axiom_changes"]
     return out
@@ -280,7 +379,8 @@ def cmd_run(args) -> int:
         for r in view["rows"]:
             print(json.dumps({k: r[k] for k in ("key", "file", "conjecture", "job", "verdict",
                                                 "seconds", "axioms_used", "reused",
-                                                "expected", "unexpected", "vacuous")}))
+                                                "expected", "unexpected", "vacuous",
+                                                "axioms_contradictory")}))
         print(json.dumps(json_summary(view)))
     else:
         print(report_text(view))
@@ -289,7 +389,10 @@ def cmd_run(args) -> int:
             print(diff_text(view["diff"]))
         elif view["summary"].get("previous") is None:
             print("(the first run of this suite: nothing to compare with)")
-    return exit_code(view["summary"])
+    code = exit_code(view["summary"], args.allow_removed)
+    if code == EXIT_REMOVED and view.get("diff"):
+        print(removed_note(view["diff"]), file=sys.stderr)
+    return code
 
 
 @_guarded
@@ -302,6 +405,8 @@ def cmd_diff(args) -> int:
     query = {"threshold": args.threshold}
     if args.runs:
         query.update(a=args.runs[0], b=args.runs[1])
+        if args.across_suites:
+            query["across_suites"] = 1
     else:
         suite = args.suite
         if not suite:
@@ -316,15 +421,21 @@ def cmd_diff(args) -> int:
     try:
         d = client.get("/api/corpus/diff", **query)
     except ApiError as e:
-        if e.status == 404:
+        if e.status == 404 or e.code == "different_suites":
             print(f"nightjar: {e}", file=sys.stderr)
+            if e.code == "different_suites":
+                print("nightjar: to compare them anyway: nightjar corpus diff "
+                      f"{args.runs[0]} {args.runs[1]} --across-suites", file=sys.stderr)
             return EXIT_USAGE
         raise
     if args.json:
         print(json.dumps({k: v for k, v in d.items() if k not in ("summary_a", "summary_b")}))
     else:
         print(diff_text(d))
-    return EXIT_REGRESSION if d["regression"] else EXIT_OK
+    code = diff_exit_code(d, args.allow_removed)
+    if code == EXIT_REMOVED:
+        print(removed_note(d), file=sys.stderr)
+    return code
 
 
 @_guarded
@@ -336,6 +447,8 @@ def cmd_runs(args) -> int:
     out = []
     for name in suites:
         out.extend(dict(r, suite=name) for r in client.get(f"/api/corpus/suites/{name}/runs")["runs"])
+    # newest first across every suite (ties: the run id, for a stable order)
+    out.sort(key=lambda r: (r["created"], r["run"]), reverse=True)
     if args.json:
         print(json.dumps({"runs": out}))
         return EXIT_OK
@@ -371,6 +484,9 @@ def register(sub) -> None:
     r.add_argument("--full", action="store_true", help="search everything again (no reuse)")
     r.add_argument("--json", action="store_true",
                    help="JSON: with --wait, one line per obligation, then a summary line")
+    r.add_argument("--allow-removed", action="store_true",
+                   help="with --wait: obligations settled in the last run but gone from the "
+                   "suite do not fail the run (default: exit 6)")
     r.add_argument("--time-limit", type=float, metavar="SECONDS",
                    help="seconds per obligation (default: the manifest's time_limit)")
     r.add_argument("--server", metavar="URL", help="service address (default: NIGHTJAR_SERVER, "
@@ -378,19 +494,31 @@ def register(sub) -> None:
     r.set_defaults(func=cmd_run)
 
     d = csub.add_parser("diff", help="compare two runs of a suite",
-                        description="Gained, lost, flipped (Theorem <-> CounterSatisfiable), "
-                        "unexpected (against the manifest), time changes and changes in the "
-                        "axioms used. Default: the last two runs of the suite. Exit 5 when "
-                        "anything is lost, flipped or unexpected.")
+                        description="Each obligation once: on contradictory axioms, flipped "
+                        "(Theorem <-> CounterSatisfiable), lost (definite -> none), gained "
+                        "(none -> the expected verdict), answered (none -> definite, no "
+                        "expectation), added, removed; also unexpected (against the "
+                        "manifest), time changes and changes in the axioms used. Default: "
+                        "the last two runs of the suite. Exit 5 when anything is on "
+                        "contradictory axioms, lost, flipped or unexpected; else 6 when an "
+                        "obligation settled in the first run was removed; else 0.")
     d.add_argument("runs", nargs="*", metavar="RUN", help="RUN_A RUN_B (both, or neither)")
     d.add_argument("--suite", metavar="NAME", help="compare this suite's last two runs")
     d.add_argument("--json", action="store_true", help="one JSON object")
     d.add_argument("--threshold", type=float, default=1.0, metavar="SECONDS",
                    help="report time changes of at least this many seconds (default 1)")
+    d.add_argument("--across-suites", action="store_true",
+                   help="compare RUN_A and RUN_B even when they are runs of different suites "
+                   "(refused otherwise, exit 2)")
+    d.add_argument("--allow-removed", action="store_true",
+                   help="obligations settled in RUN_A but removed from the suite do not fail "
+                   "the gate (default: exit 6)")
     d.add_argument("--server", metavar="URL", help="service address")
     d.set_defaults(func=cmd_diff)
 
-    s = csub.add_parser("runs", help="list the runs of your suites, newest first")
+    s = csub.add_parser("runs", help="list the runs of your suites, newest first",
+                        description="Every run of your suites in one list, newest first "
+                        "(suites mixed; the suite is a column). --suite: one suite's runs.")
     s.add_argument("--suite", metavar="NAME", help="only this suite")
     s.add_argument("--json", action="store_true", help="one JSON object")
     s.add_argument("--server", metavar="URL", help="service address")

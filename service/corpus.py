@@ -15,9 +15,13 @@ Three layers, each usable on its own:
   verdicts (:func:`plan_reuse`), then writes one batch through
   :class:`service.store.Store` and the run record through
   :class:`CorpusStore`.
-* **Views and comparisons** (pure): :func:`run_view` joins a run record with
-  its job records; :func:`compare` says what was gained, lost, flipped,
-  unexpected, slower or faster, and whose axioms used changed.
+* **Views and comparisons**: :func:`run_view` (pure) joins a run record with
+  its job records and marks every obligation on axioms the run found
+  contradictory; :func:`view_of` reads the records and writes that mark on
+  the job records too; :func:`compare` (pure) puts each obligation in one
+  list (on contradictory axioms, flipped, lost, gained, answered, added,
+  removed) and says what is unexpected, slower or faster, and whose axioms
+  used changed.
 
 DEVELOPERS.md, "Corpus runs", has the record layout and the rules.
 """
@@ -788,7 +792,10 @@ def create_run(store, corpus: CorpusStore, dispatcher, owner: str, body: dict, *
         raise RunRefused(f"{len(jobs)} jobs in one run (axiom checks counted); the limit "
                          f"is {max_jobs}", code="too_many_jobs")
     n = len(guard_ok)
-    reused_for_store = {n + i: info["record"] for i, info in reuse.items()}
+    # a reused verdict keeps its source's reason, but not the contradiction
+    # mark an earlier run put on it: this run's axioms are judged afresh
+    reused_for_store = {n + i: dict(info["record"], reason=unmarked_reason(info["record"]))
+                        for i, info in reuse.items()}
     reused_for_store.update({i: info["record"] for i, info in guard_reuse.items()})
     rid = new_run_id()
     bid, ids = store.create_batch(owner, jobs, label=f"corpus {sub['suite']} {rid}",
@@ -847,16 +854,27 @@ def _guard_state(g: dict, rec: dict | None, model_size) -> dict:
 
 def run_view(run: dict, jobs: dict, guard_models: dict | None = None) -> dict:
     """Join a run record with its job records (``job id -> record``).
-    ``guard_models``: guard job id -> model size (for satisfiable guards)."""
+    ``guard_models``: guard job id -> model size (for satisfiable guards).
+
+    An axiom set is contradictory when its guard refuted it, or when the
+    engine's (checked) proof of some conjecture never used the conjecture
+    (a ContradictoryAxioms verdict).  Every row on such a set has
+    ``axioms_contradictory`` true, whatever its verdict (a Theorem there is
+    still a valid entailment, but a vacuous one: ``vacuous``); the view's
+    ``contradictions`` say how each set was found out."""
     guard_models = guard_models or {}
     guards = [_guard_state(g, jobs.get(g.get("job")), guard_models.get(g.get("job")))
               for g in run.get("guards", [])]
-    # An axiom set is contradictory when its guard refuted it, or when the
-    # engine's (checked) proof of some conjecture never used the conjecture.
-    broken = {g["set"] for g in guards if g["consistent"] is False}
+    broken: dict = {}
+    for g in guards:
+        if g["consistent"] is False and g["set"] not in broken:
+            broken[g["set"]] = {"set": g["set"], "job": g.get("job"), "found_by": "axiom check",
+                                "key": None}
     for ob in run["obligations"]:
-        if (jobs.get(ob["job"]) or {}).get("verdict") == V.CONTRADICTORY_AXIOMS:
-            broken.add(ob["axiom_set"])
+        if ((jobs.get(ob["job"]) or {}).get("verdict") == V.CONTRADICTORY_AXIOMS
+                and ob["axiom_set"] not in broken):
+            broken[ob["axiom_set"]] = {"set": ob["axiom_set"], "job": ob["job"],
+                                       "found_by": "obligation", "key": ob["key"]}
     rows = []
     for ob in run["obligations"]:
         rec = jobs.get(ob["job"]) or {}
@@ -873,6 +891,7 @@ def run_view(run: dict, jobs: dict, guard_models: dict | None = None) -> dict:
             "reused": reused is not None, "reuse": reused,
             "expected": expected,
             "unexpected": bool(expected and verdict in V.DEFINITE and verdict != expected),
+            "axioms_contradictory": contradictory,
             "vacuous": bool(contradictory and verdict in V.PROVED)})
     all_jobs = [ob["job"] for ob in run["obligations"]] + [g.get("job") for g in guards if g.get("job")]
     finished = all((jobs.get(j) or {}).get("state") in FINAL for j in all_jobs)
@@ -901,12 +920,103 @@ def run_view(run: dict, jobs: dict, guard_models: dict | None = None) -> dict:
         "undecided": sum(1 for r in rows if r["state"] in FINAL and r["verdict"] not in V.DEFINITE),
         "unexpected": sum(1 for r in rows if r["unexpected"]),
         "vacuous": sum(1 for r in rows if r["vacuous"]),
+        "on_contradictory_axioms": sum(1 for r in rows if r["axioms_contradictory"]),
+        "contradictory_sets": len(broken),
         "axioms_consistent": consistent,
         "time_saved_seconds": round(max(0.0, saved - checks), 3),
         "reuse_check_seconds": round(checks, 3),
         "search_seconds": round(sum(r["seconds"] or 0.0 for r in rows if not r["reused"]), 3),
     }
-    return {"summary": summary, "guards": guards, "rows": rows, "axioms": axiom_index(run)}
+    return {"summary": summary, "guards": guards, "rows": rows, "axioms": axiom_index(run),
+            "contradictions": list(broken.values())}
+
+
+def contradiction_text(c: dict | None) -> str:
+    """How an axiom set was found contradictory, in words (one item of a
+    view's ``contradictions``)."""
+    if not c:
+        return "found contradictory"
+    if c.get("found_by") == "axiom check":
+        return f"refuted on their own by the axiom check {c.get('job')}"
+    return f"{c.get('key')} (job {c.get('job')}) came out ContradictoryAxioms"
+
+
+# The mark on the job record of an obligation whose axioms a run found
+# contradictory: the field ``axioms_contradictory`` holds the words, and the
+# same words are added to ``reason`` (after the worker's own reason, with
+# MARK_SEP), which is what `nightjar status JOB`, the API's job record and the
+# console's job page already show.
+MARK_FIELD = "axioms_contradictory"
+MARK_SEP = "; and: "
+
+
+def mark_text(run_id: str, verdict, c: dict | None) -> str:
+    how = contradiction_text(c)
+    if verdict in V.PROVED and verdict != V.CONTRADICTORY_AXIOMS:
+        what = ("the entailment holds, but vacuously: every conjecture follows from "
+                "these axioms")
+    else:
+        what = "every conjecture follows from them, this one too"
+    return (f"AXIOMS CONTRADICTORY (corpus run {run_id}: {how}): {what}; fix the axioms "
+            f"before trusting any verdict on them")
+
+
+def unmarked_reason(rec: dict) -> str:
+    """A job record's reason without the contradiction mark a corpus run
+    added (what a reused copy of the verdict must carry: the new run's axioms
+    are judged afresh)."""
+    reason = rec.get("reason") or ""
+    mark = rec.get(MARK_FIELD) or ""
+    if not mark:
+        return reason
+    if reason == mark:
+        return ""
+    if reason.endswith(MARK_SEP + mark):
+        return reason[:-len(MARK_SEP + mark)]
+    return reason
+
+
+def mark_contradictory_jobs(store, run: dict, view: dict, jobs: dict) -> list:
+    """Write the contradiction mark on the job record of every finished
+    obligation of ``run`` on a contradictory axiom set that does not carry it
+    yet (the guard jobs aside).  WATCH-guarded per job: a record deleted
+    meanwhile is left deleted, never recreated in part; a second writer finds
+    the mark and stops.  Returns the ids marked."""
+    import redis as _redis
+    found = {c["set"]: c for c in view.get("contradictions", [])}
+    if not found:
+        return []
+    by_key = {ob["key"]: ob for ob in run["obligations"]}
+    marked = []
+    for row in view["rows"]:
+        rec = jobs.get(row["job"]) or {}
+        if (not row.get("axioms_contradictory") or rec.get("state") not in FINAL
+                or rec.get(MARK_FIELD)):
+            continue
+        ob = by_key.get(row["key"])
+        text = mark_text(run["id"], row["verdict"], found.get(ob["axiom_set"]) if ob else None)
+        key = store.k_job(row["job"])
+        with store.r.pipeline(transaction=True) as pipe:
+            while True:
+                try:
+                    pipe.watch(key)
+                    state, reason, mark = pipe.hmget(key, ["state", "reason", MARK_FIELD])
+                    state = state.decode() if isinstance(state, bytes) else state
+                    if state not in FINAL or mark:
+                        pipe.unwatch()
+                        break
+                    reason = (reason.decode() if isinstance(reason, bytes) else reason) or ""
+                    pipe.multi()
+                    fields = {MARK_FIELD: text}
+                    if row["verdict"] != V.CONTRADICTORY_AXIOMS:   # that one says it already
+                        fields["reason"] = reason + MARK_SEP + text if reason else text
+                    pipe.hset(key, mapping=fields)
+                    pipe.execute()
+                    marked.append(row["job"])
+                    break
+                except _redis.WatchError:
+                    continue
+    return marked
 
 
 def _kind(verdict) -> str:
@@ -919,21 +1029,47 @@ def _kind(verdict) -> str:
 
 def compare(a: dict, b: dict, *, threshold: float = DEFAULT_TIME_THRESHOLD,
             ratio: float = DEFAULT_TIME_RATIO) -> dict:
-    """What changed from run view ``a`` to run view ``b``.
+    """What changed from run view ``a`` (the base) to run view ``b``.
 
-    gained: not settled in a (or new), settled in b.  lost: settled in a, not
-    in b.  flipped: proved in one, refuted in the other.  unexpected: b's
-    definite verdict differs from b's expectation.  slower / faster: both
-    searched and settled the same way, time changed by at least ``threshold``
-    seconds and the factor ``ratio``.  axioms_changed: proved in both, with a
-    different set of axioms used.  added / removed: obligations only in b / a.
-    axiom_changes: the axioms themselves added, removed or edited
-    (:func:`axiom_changes` of the views' ``axioms``)."""
+    Every obligation lands in at most one of the verdict categories below,
+    tried in this order (DEVELOPERS.md, "Corpus runs", has the same list):
+
+    * contradictory: b found the axiom set of the obligation contradictory
+      (its verdict, Theorem or ContradictoryAxioms or anything, says nothing
+      about the conjecture); new obligations too.
+    * added / removed: in b only / in a only.  A removed obligation is
+      ``settled`` when a gave it a definite verdict on axioms not known to be
+      contradictory: dropping it fails the gate (``removed_settled``).
+    * flipped: proved in a, refuted in b, or the other way round.
+    * lost: definite in a, without a definite verdict in b (a job still
+      running is not lost).
+    * gained: without a definite verdict in a, and in b the verdict the
+      manifest expects.
+    * answered: without a definite verdict in a, definite in b, and the
+      manifest expects nothing of it (no way to tell whether the answer is
+      the wanted one).  Open in a and now definite but not the expected
+      verdict: in ``unexpected`` only.
+
+    A verdict of a on contradictory axioms counts as no verdict (such a line
+    has ``before_contradictory``).  Apart from these: unexpected (b's definite
+    verdict differs from b's expectation; a check of b against its manifest,
+    so it may name an obligation that is also flipped, added or
+    contradictory); slower / faster (both searched and settled the same way,
+    time changed by at least ``threshold`` seconds and the factor ``ratio``);
+    axioms_changed (proved in both, with another set of axioms used);
+    axiom_changes (the axioms themselves, :func:`axiom_changes`).
+
+    ``suites`` names both runs' suites; ``suite`` is their common name, None
+    when they differ (``across_suites``: the caller asked for it)."""
     ra = {r["key"]: r for r in a["rows"]}
     rb = {r["key"]: r for r in b["rows"]}
-    out = {"a": a["summary"]["run"], "b": b["summary"]["run"], "suite": b["summary"]["suite"],
-           "gained": [], "lost": [], "flipped": [], "unexpected": [], "slower": [],
-           "faster": [], "axioms_changed": [], "added": [], "removed": [],
+    sa, sb = a["summary"]["suite"], b["summary"]["suite"]
+    out = {"a": a["summary"]["run"], "b": b["summary"]["run"],
+           "suite": sb if sa == sb else None, "suites": {"a": sa, "b": sb},
+           "across_suites": sa != sb,
+           "contradictory": [], "gained": [], "answered": [], "lost": [], "flipped": [],
+           "unexpected": [], "slower": [], "faster": [], "axioms_changed": [], "added": [],
+           "removed": [],
            "reused": b["summary"]["reused"], "searched": b["summary"]["searched"],
            "axioms_consistent": {"a": a["summary"]["axioms_consistent"],
                                  "b": b["summary"]["axioms_consistent"]},
@@ -943,15 +1079,23 @@ def compare(a: dict, b: dict, *, threshold: float = DEFAULT_TIME_THRESHOLD,
         x = ra.get(key)
         if y["unexpected"]:
             out["unexpected"].append({"key": key, "verdict": y["verdict"], "expected": y["expected"]})
-        if x is None:
-            out["added"].append({"key": key, "after": y["verdict"]})
-            if y["verdict"] in V.DEFINITE:
-                out["gained"].append({"key": key, "before": None, "after": y["verdict"]})
+        line = {"key": key, "before": x["verdict"] if x else None, "after": y["verdict"]}
+        if x is not None and x.get("axioms_contradictory"):
+            line["before_contradictory"] = True
+        if y.get("axioms_contradictory"):
+            out["contradictory"].append(dict(line, new=x is None))
             continue
-        kx, ky = _kind(x["verdict"]), _kind(y["verdict"])
-        line = {"key": key, "before": x["verdict"], "after": y["verdict"]}
+        if x is None:
+            out["added"].append({"key": key, "after": y["verdict"], "expected": y["expected"]})
+            continue
+        before = None if x.get("axioms_contradictory") else x["verdict"]
+        kx, ky = _kind(before), _kind(y["verdict"])
         if kx == "open" and ky != "open":
-            out["gained"].append(line)
+            if y["expected"] is None:
+                out["answered"].append(line)
+            elif y["verdict"] == y["expected"]:
+                out["gained"].append(line)
+            # else: in unexpected
         elif kx != "open" and ky == "open":
             if y["state"] in FINAL:
                 out["lost"].append(line)
@@ -964,23 +1108,44 @@ def compare(a: dict, b: dict, *, threshold: float = DEFAULT_TIME_THRESHOLD,
                     out["axioms_changed"].append({"key": key, "added": sorted(ub - ua),
                                                   "removed": sorted(ua - ub)})
             if ky != "open" and not x["reused"] and not y["reused"]:
-                sa, sb = x["seconds"] or 0.0, y["seconds"] or 0.0
-                if abs(sb - sa) >= threshold and max(sa, sb) >= ratio * max(min(sa, sb), 1e-3):
-                    out["slower" if sb > sa else "faster"].append(
-                        {"key": key, "before": sa, "after": sb})
+                sa_, sb_ = x["seconds"] or 0.0, y["seconds"] or 0.0
+                if abs(sb_ - sa_) >= threshold and max(sa_, sb_) >= ratio * max(min(sa_, sb_), 1e-3):
+                    out["slower" if sb_ > sa_ else "faster"].append(
+                        {"key": key, "before": sa_, "after": sb_})
     for key, x in ra.items():
         if key not in rb:
-            out["removed"].append({"key": key, "before": x["verdict"]})
-    out["regression"] = bool(out["lost"] or out["flipped"] or out["unexpected"]
-                             or out["axioms_consistent"]["b"] is False)
+            out["removed"].append({"key": key, "before": x["verdict"],
+                                   "settled": bool(x["verdict"] in V.DEFINITE
+                                                   and not x.get("axioms_contradictory"))})
+    out["removed_settled"] = sum(1 for x in out["removed"] if x["settled"])
+    out["regression"] = bool(out["contradictory"] or out["lost"] or out["flipped"]
+                             or out["unexpected"] or out["axioms_consistent"]["b"] is False)
     return out
 
 
+COUNTED = ("contradictory", "gained", "answered", "lost", "flipped", "unexpected", "added",
+           "removed")
+
+
 def counts(diff: dict | None) -> dict:
-    keys = ("gained", "lost", "flipped", "unexpected")
+    """The number in each list of a comparison, and ``removed_settled``
+    (all 0 without one)."""
     if diff is None:
-        return {k: 0 for k in keys}
-    return {k: len(diff[k]) for k in keys}
+        return {**{k: 0 for k in COUNTED}, "removed_settled": 0}
+    return {**{k: len(diff[k]) for k in COUNTED},
+            "removed_settled": diff.get("removed_settled", 0)}
+
+
+def suites_refusal(a: dict, b: dict) -> str | None:
+    """Why runs ``a`` and ``b`` (records) are not compared unless asked for
+    explicitly: the message when they are runs of different suites, else
+    None.  Obligations are matched by file#conjecture only, so a comparison
+    across suites mostly says that the files differ."""
+    if a.get("suite") == b.get("suite"):
+        return None
+    return (f"run {a['id']} is of suite '{a.get('suite')}' and run {b['id']} of suite "
+            f"'{b.get('suite')}': runs of different suites are not compared, since their "
+            f"obligations are matched by file and conjecture name only")
 
 
 def last_two(corpus: CorpusStore, owner: str, suite: str) -> tuple | None:
@@ -990,8 +1155,11 @@ def last_two(corpus: CorpusStore, owner: str, suite: str) -> tuple | None:
     return (ids[1], ids[0]) if len(ids) >= 2 else None
 
 
-def view_of(store, corpus: CorpusStore, run: dict) -> dict:
-    """The view of a stored run, reading its jobs (and guard model sizes)."""
+def view_of(store, corpus: CorpusStore, run: dict, *, mark: bool = True) -> dict:
+    """The view of a stored run, reading its jobs (and guard model sizes).
+    With ``mark`` (the default), the job records of finished obligations on
+    axioms the run found contradictory get the contradiction mark
+    (:func:`mark_contradictory_jobs`): reading a run is what writes it."""
     ids = [o["job"] for o in run["obligations"]] + [g["job"] for g in run.get("guards", [])
                                                     if g.get("job")]
     jobs = {rec["id"]: rec for rec in store.get_jobs(ids)}
@@ -1002,10 +1170,14 @@ def view_of(store, corpus: CorpusStore, run: dict) -> dict:
             model = store.get_result(g["job"]).get("model")
             if model:
                 sizes[g["job"]] = model.get("size")
-    return run_view(run, jobs, sizes)
+    view = run_view(run, jobs, sizes)
+    if mark:
+        mark_contradictory_jobs(store, run, view, jobs)
+    return view
 
 
 __all__ = ["Suite", "SuiteProblem", "SuiteError", "load_suite", "submission", "obligation_key",
            "statement_hash", "axiom_table", "plan_reuse", "CorpusStore", "create_run",
            "read_submission", "RunRefused", "run_view", "compare", "counts", "view_of",
-           "axiom_index", "axiom_changes", "last_two", "manifest_path"]
+           "axiom_index", "axiom_changes", "last_two", "manifest_path", "suites_refusal",
+           "mark_contradictory_jobs", "unmarked_reason", "contradiction_text", "MARK_FIELD"]

@@ -5,7 +5,8 @@
                                                and the comparison with the previous run
     GET  /api/corpus/suites                    the caller's suites with their run counts
     GET  /api/corpus/suites/<name>/runs        the runs of a suite, newest first
-    GET  /api/corpus/diff?a=&b=  | ?suite=     compare two runs (default: the suite's last two)
+    GET  /api/corpus/diff?a=&b=  | ?suite=     compare two runs (default: the suite's last two);
+                                               runs of two suites only with &across_suites=1
 
 The logic lives in :mod:`service.corpus`; this module only reads requests
 and answers them.  The app factory (``service/app.py``) mounts ``bp``.
@@ -45,6 +46,15 @@ def _float_arg(name, default):
         return float(v)
     except ValueError:
         raise ValueError(f"{name} must be a number")
+
+
+def _flag_arg(name) -> bool:
+    v = (request.args.get(name) or "").strip().lower()
+    if v in ("", "0", "false", "no"):
+        return False
+    if v in ("1", "true", "yes"):
+        return True
+    raise ValueError(f"{name} must be 1 or 0")
 
 
 def full_view(run: dict) -> dict:
@@ -124,6 +134,7 @@ def diff():
     a, b, suite = request.args.get("a"), request.args.get("b"), request.args.get("suite")
     try:
         threshold = _float_arg("threshold", C.DEFAULT_TIME_THRESHOLD)
+        across = _flag_arg("across_suites")
     except ValueError as e:
         return api_error(400, "bad_request", str(e))
     if bool(a) != bool(b):
@@ -140,6 +151,11 @@ def diff():
     for rid, r in ((a, ra), (b, rb)):
         if r is None:
             return api_error(404, "not_found", f"no run {rid}")
+    refusal = C.suites_refusal(ra, rb)
+    if refusal and not across:
+        return api_error(400, "different_suites", refusal + "; to compare them anyway, ask "
+                         "with across_suites=1", suites={"a": ra.get("suite"),
+                                                         "b": rb.get("suite")})
     s = _svc()
     va, vb = C.view_of(s.store, corpus, ra), C.view_of(s.store, corpus, rb)
     out = C.compare(va, vb, threshold=threshold)

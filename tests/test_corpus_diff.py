@@ -8,6 +8,7 @@ the real engine, on problems small enough to settle in a fraction of a second.
 
 from __future__ import annotations
 
+import json
 import textwrap
 from pathlib import Path
 
@@ -25,9 +26,11 @@ from worker import jobs
 
 # -- comparison on hand-made views ------------------------------------------
 
-def view(rid, rows, expectations=None, guards=None, jobs_extra=None):
-    """A run record and its job records from (key, verdict, seconds, axioms, reused)."""
-    run = {"id": rid, "suite": "s", "owner": "o", "created": 0.0, "batch": "b" + rid,
+def view(rid, rows, expectations=None, guards=None, jobs_extra=None, sets=None, suite="s"):
+    """A run record and its job records from (key, verdict, seconds, axioms,
+    reused); ``sets``: key -> axiom set id (default "A")."""
+    sets = sets or {}
+    run = {"id": rid, "suite": suite, "owner": "o", "created": 0.0, "batch": "b" + rid,
            "expectations": expectations or {}, "axiom_sets": {"A": {}},
            "guards": guards or [], "obligations": []}
     recs = {}
@@ -35,7 +38,7 @@ def view(rid, rows, expectations=None, guards=None, jobs_extra=None):
         jid = f"{rid}-j{i}"
         run["obligations"].append({
             "key": key, "file": key.split("#")[0], "conjecture": key.split("#")[-1],
-            "job": jid, "axiom_set": "A", "conjecture_hash": "h",
+            "job": jid, "axiom_set": sets.get(key, "A"), "conjecture_hash": "h",
             "reused": ({"kind": "proof-replayed", "check_seconds": 0.01,
                         "saved_seconds": secs, "from_job": "x"} if reused else None)})
         recs[jid] = {"id": jid, "state": "done" if verdict else "running",
@@ -44,8 +47,21 @@ def view(rid, rows, expectations=None, guards=None, jobs_extra=None):
     return C.run_view(run, recs)
 
 
+VERDICT_LISTS = ("contradictory", "gained", "answered", "lost", "flipped", "added", "removed")
+
+
+def listed_once(d):
+    """Every obligation in at most one of the comparison's verdict lists."""
+    keys = [x["key"] for k in VERDICT_LISTS for x in d[k]]
+    return len(keys) == len(set(keys))
+
+
 def test_compare_sorts_every_kind_of_change():
     a = view("A", [("f#gain", "Timeout", 10.0, [], False),
+                   ("f#gain_cs", "Timeout", 10.0, [], False),
+                   ("f#wrong_way", "Timeout", 10.0, [], False),
+                   ("f#free_t", "Timeout", 10.0, [], False),
+                   ("f#free_cs", "GaveUp", 10.0, [], False),
                    ("f#lose", "Theorem", 0.2, ["x"], False),
                    ("f#flip1", "Theorem", 0.2, ["x"], False),
                    ("f#flip2", "CounterSatisfiable", 0.1, [], False),
@@ -53,8 +69,14 @@ def test_compare_sorts_every_kind_of_change():
                    ("f#jitter", "Theorem", 0.1, ["x"], False),
                    ("f#axioms", "Theorem", 0.1, ["x", "y"], False),
                    ("f#reused", "Theorem", 0.1, ["x"], False),
-                   ("f#gone", "Theorem", 0.1, ["x"], False)])
+                   ("f#gone", "Theorem", 0.1, ["x"], False),
+                   ("f#gone_cs", "CounterSatisfiable", 0.1, [], False),
+                   ("f#gone_open", "Timeout", 10.0, [], False)])
     b = view("B", [("f#gain", "Theorem", 1.0, ["x"], False),
+                   ("f#gain_cs", "CounterSatisfiable", 1.0, [], False),
+                   ("f#wrong_way", "CounterSatisfiable", 1.0, [], False),
+                   ("f#free_t", "Theorem", 1.0, ["x"], False),
+                   ("f#free_cs", "CounterSatisfiable", 1.0, [], False),
                    ("f#lose", "Timeout", 10.0, [], False),
                    ("f#flip1", "CounterSatisfiable", 0.2, [], False),
                    ("f#flip2", "Theorem", 0.1, ["x"], False),
@@ -62,20 +84,60 @@ def test_compare_sorts_every_kind_of_change():
                    ("f#jitter", "Theorem", 0.6, ["x"], False),
                    ("f#axioms", "Theorem", 0.1, ["x", "z"], False),
                    ("f#reused", "Theorem", 5.0, ["x"], True),
-                   ("f#new", "CounterSatisfiable", 0.1, [], False)],
-             expectations={"f#flip1": "Theorem", "f#gain": "Theorem"})
+                   ("f#new", "CounterSatisfiable", 0.1, [], False),
+                   ("f#new_t", "Theorem", 0.1, ["x"], False)],
+             expectations={"f#flip1": "Theorem", "f#gain": "Theorem",
+                           "f#gain_cs": "CounterSatisfiable", "f#wrong_way": "Theorem",
+                           "f#new_t": "CounterSatisfiable"})
     d = C.compare(a, b)
     keys = lambda k: [x["key"] for x in d[k]]
-    assert keys("gained") == ["f#gain", "f#new"]
+    # gained: now the verdict the manifest expects (a CounterSatisfiable too,
+    # when that is what it expects); never a new obligation
+    assert keys("gained") == ["f#gain", "f#gain_cs"]
+    # a definite verdict with no expectation to judge it: answered, not gained
+    assert keys("answered") == ["f#free_t", "f#free_cs"]
+    # a CounterSatisfiable where a Theorem is expected: unexpected, not gained
+    assert "f#wrong_way" in keys("unexpected") and "f#wrong_way" not in keys("gained")
     assert keys("lost") == ["f#lose"]
     assert keys("flipped") == ["f#flip1", "f#flip2"]
     assert d["flipped"][0]["before"] == "Theorem" and d["flipped"][0]["after"] == "CounterSatisfiable"
-    assert keys("unexpected") == ["f#flip1"]          # f#gain is as expected
+    assert keys("unexpected") == ["f#wrong_way", "f#flip1", "f#new_t"]   # f#gain is as expected
     assert keys("slower") == ["f#slow"] and keys("faster") == []   # jitter and reuse aside
     assert d["axioms_changed"] == [{"key": "f#axioms", "added": ["z"], "removed": ["y"]}]
-    assert keys("added") == ["f#new"] and keys("removed") == ["f#gone"]
+    # new obligations are listed once, as added (not also as gained)
+    assert keys("added") == ["f#new", "f#new_t"]
+    assert d["added"][1] == {"key": "f#new_t", "after": "Theorem", "expected": "CounterSatisfiable"}
+    assert keys("removed") == ["f#gone", "f#gone_cs", "f#gone_open"]
+    assert [x["settled"] for x in d["removed"]] == [True, True, False]
+    assert d["removed_settled"] == 2
+    assert listed_once(d)
     assert d["regression"] is True
-    assert C.counts(d) == {"gained": 2, "lost": 1, "flipped": 2, "unexpected": 1}
+    assert C.counts(d) == {"contradictory": 0, "gained": 2, "answered": 2, "lost": 1,
+                           "flipped": 2, "unexpected": 3, "added": 2, "removed": 3,
+                           "removed_settled": 2}
+
+
+def test_the_diff_text_has_one_line_per_obligation():
+    a = view("A", [("f#flip", "Theorem", 0.1, ["x"], False),
+                   ("f#stays_wrong", "CounterSatisfiable", 0.1, [], False),
+                   ("f#gone", "Theorem", 0.1, ["x"], False),
+                   ("f#gone_open", "Timeout", 3.0, [], False)])
+    b = view("B", [("f#flip", "CounterSatisfiable", 0.1, [], False),
+                   ("f#stays_wrong", "CounterSatisfiable", 0.1, [], False),
+                   ("f#new", "CounterSatisfiable", 0.1, [], False)],
+             expectations={"f#flip": "Theorem", "f#stays_wrong": "Theorem", "f#new": "Theorem"})
+    text = cli_corpus.diff_text(C.compare(a, b))
+    lines = text.splitlines()
+    for key in ("f#flip", "f#stays_wrong", "f#new", "f#gone", "f#gone_open"):
+        assert sum(1 for ln in lines if f" {key} " in ln + " ") == 1, (key, text)
+    flip = next(ln for ln in lines if " f#flip " in ln)
+    assert flip.startswith("FLIPPED") and "UNEXPECTED: the manifest expects Theorem" in flip
+    new = next(ln for ln in lines if " f#new " in ln + " ")
+    assert new.startswith("added") and "UNEXPECTED" in new
+    assert next(ln for ln in lines if " f#stays_wrong " in ln).startswith("unexpected")
+    assert next(ln for ln in lines if " f#gone " in ln).startswith("REMOVED")
+    assert next(ln for ln in lines if " f#gone_open " in ln + " ").startswith("removed")
+    assert "1 added, 2 removed (1 of them settled)" in lines[-1]
 
 
 def test_no_change_is_no_regression_and_a_running_job_is_not_lost():
@@ -93,7 +155,11 @@ def test_guard_marks_theorems_vacuous_and_sets_consistency():
              jobs_extra={"g1": {"id": "g1", "state": "done", "verdict": "Unsatisfiable"}})
     assert v["summary"]["axioms_consistent"] is False
     assert [r["vacuous"] for r in v["rows"]] == [True, False]
-    assert v["summary"]["vacuous"] == 1
+    # every obligation on the refuted set is marked, whatever its verdict
+    assert [r["axioms_contradictory"] for r in v["rows"]] == [True, True]
+    assert v["summary"]["vacuous"] == 1 and v["summary"]["on_contradictory_axioms"] == 2
+    assert v["contradictions"] == [{"set": "A", "job": "g1", "found_by": "axiom check",
+                                    "key": None}]
     v = view("A", rows, guards=guard,
              jobs_extra={"g1": {"id": "g1", "state": "running", "verdict": None}})
     assert v["summary"]["axioms_consistent"] is None and v["summary"]["finished"] is False
@@ -110,15 +176,80 @@ def test_a_contradictory_axioms_verdict_marks_its_set_even_without_the_guard():
              jobs_extra={"g1": {"id": "g1", "state": "done", "verdict": "Timeout"}})
     assert v["summary"]["axioms_consistent"] is False
     assert [r["vacuous"] for r in v["rows"]] == [True, True]
+    assert v["contradictions"] == [{"set": "A", "job": "A-j1", "found_by": "obligation",
+                                    "key": "f#c"}]
+    line = cli_corpus.axioms_line(v["summary"], v["guards"], v["contradictions"])
+    assert line.startswith("AXIOMS CONTRADICTORY: 1 axiom set (1 shown contradictory by a "
+                           "ContradictoryAxioms verdict); the 2 obligations on it")
+
+
+def test_contradictory_axioms_are_their_own_loud_kind_and_never_gained():
+    """The reported case: an axiom made the set inconsistent; searched
+    obligations came out ContradictoryAxioms, reused ones still say Theorem."""
+    exp = {"f#ring_comm": "Theorem", "f#t1": "Theorem", "f#t2": "Theorem", "f#other": "Theorem"}
+    a = view("A", [("f#ring_comm", "Timeout", 5.0, [], False),
+                   ("f#t1", "Theorem", 0.1, ["x"], False),
+                   ("f#t2", "Theorem", 0.1, ["x"], False),
+                   ("f#other", "Timeout", 5.0, [], False)], expectations=exp)
+    guard = [{"set": "A", "axioms": 3, "job": "g1"}, {"set": "B", "axioms": 2, "job": "g2"}]
+    b = view("B", [("f#ring_comm", "ContradictoryAxioms", 0.2, ["x", "bad"], False),
+                   ("f#t1", "Theorem", 0.1, ["x"], True),
+                   ("f#t2", "ContradictoryAxioms", 0.2, ["x", "bad"], False),
+                   ("f#other", "Theorem", 0.3, ["y"], False)],
+             expectations=exp, guards=guard, sets={"f#other": "B"},
+             jobs_extra={"g1": {"id": "g1", "state": "done", "verdict": "Unsatisfiable"},
+                         "g2": {"id": "g2", "state": "done", "verdict": "Satisfiable"}})
+    r = {x["key"]: x for x in b["rows"]}
+    # the reused Theorem carries the same warning as the rest of its set
+    assert r["f#t1"]["axioms_contradictory"] and r["f#t1"]["vacuous"]
+    assert not r["f#other"]["axioms_contradictory"]       # another, consistent, axiom set
+    d = C.compare(a, b)
+    assert [(x["key"], x["before"], x["after"]) for x in d["contradictory"]] == [
+        ("f#ring_comm", "Timeout", "ContradictoryAxioms"),
+        ("f#t1", "Theorem", "Theorem"),
+        ("f#t2", "Theorem", "ContradictoryAxioms")]
+    assert [x["key"] for x in d["gained"]] == ["f#other"]          # its set is consistent
+    assert d["lost"] == [] and d["flipped"] == [] and listed_once(d)
+    # ContradictoryAxioms differs from the expected Theorem: unexpected, and said on the line
+    assert [x["key"] for x in d["unexpected"]] == ["f#ring_comm", "f#t2"]
+    assert d["regression"] is True and C.counts(d)["contradictory"] == 3
+    text = cli_corpus.diff_text(d)
+    lines = text.splitlines()
+    assert lines[1].startswith("AXIOMS CONTRADICTORY in run B: the verdicts of its 3 "
+                               "obligations")
+    ring = [ln for ln in lines if "f#ring_comm" in ln]
+    assert len(ring) == 1 and ring[0].startswith("CONTRADICTORY ")
+    assert "Timeout -> ContradictoryAxioms" in ring[0]
+    assert not any(ln.startswith("gained") and "ring_comm" in ln for ln in lines)
+    assert lines[-1].startswith("3 on contradictory axioms, 0 flipped, 0 lost, 2 unexpected, "
+                                "1 gained")
+    assert cli_corpus.exit_code(dict(b["summary"], **C.counts(d))) == 5
+
+    # the axioms fixed: a verdict on contradictory axioms counts as none
+    c = view("C", [("f#ring_comm", "Timeout", 5.0, [], False),
+                   ("f#t1", "Theorem", 0.1, ["x"], True),
+                   ("f#t2", "Theorem", 0.1, ["x"], False),
+                   ("f#other", "Theorem", 0.3, ["y"], True)], expectations=exp)
+    d = C.compare(b, c)
+    assert d["contradictory"] == [] and d["lost"] == [] and d["flipped"] == []
+    assert [(x["key"], x["before"], x.get("before_contradictory")) for x in d["gained"]] == [
+        ("f#t1", "Theorem", True), ("f#t2", "ContradictoryAxioms", True)]
+    assert d["regression"] is False
+    assert "Theorem (on contradictory axioms) -> Theorem" in cli_corpus.diff_text(d)
 
 
 def test_run_exit_codes():
     assert cli_corpus.exit_code({"lost": 0, "flipped": 0, "unexpected": 0,
                                  "axioms_consistent": True, "undecided": 0}) == 0
     assert cli_corpus.exit_code({"undecided": 2, "axioms_consistent": None}) == 3
-    for k in ("lost", "flipped", "unexpected"):
+    for k in ("lost", "flipped", "unexpected", "contradictory"):
         assert cli_corpus.exit_code({k: 1, "undecided": 2}) == 5
+        assert cli_corpus.exit_code({k: 1, "removed_settled": 1}) == 5
     assert cli_corpus.exit_code({"axioms_consistent": False}) == 5
+    # settled obligations of the last run removed from the suite: 6, before 3
+    assert cli_corpus.exit_code({"removed_settled": 1, "undecided": 2}) == 6
+    assert cli_corpus.exit_code({"removed_settled": 1, "undecided": 2}, allow_removed=True) == 3
+    assert cli_corpus.exit_code({"removed_settled": 1}, allow_removed=True) == 0
 
 
 class FakeClient:
@@ -457,9 +588,12 @@ def test_axiom_edit_gives_lost_and_gained_lines(env, tmp_path):
     (tmp_path / "ax/group.nj").write_text(SLOW_AXIOMS + "axiom comm: forall x y. x * y = y * x\n")
     _, v3 = env.run_suite(tmp_path)
     d = v3["diff"]
-    assert [(x["key"], x["before"], x["after"]) for x in d["gained"]] == [
+    # the manifest expects nothing of it: a definite verdict again, "answered"
+    # (gained needs an expectation it now meets)
+    assert [(x["key"], x["before"], x["after"]) for x in d["answered"]] == [
         ("goals/g.nj#commutes", "Timeout", "Theorem")]
-    assert d["lost"] == [] and not d["regression"]
+    assert d["gained"] == [] and d["lost"] == [] and not d["regression"]
+    assert "answered    goals/g.nj#commutes" in cli_corpus.diff_text(d)
     assert cli_corpus.exit_code(v3["summary"]) == 0
     # only infinite models: the consistency check can neither refute nor satisfy
     assert v3["summary"]["axioms_consistent"] is None
@@ -604,3 +738,219 @@ def test_the_run_report_says_the_batch_holds_the_axiom_check_too(env, tmp_path):
     no_ax = dict(s, axiom_checks=0)
     assert cli_corpus.checks_note(no_ax) == ""
     assert "consistency" not in cli_corpus._batch_part(no_ax)
+
+
+# -- contradictory axioms, removed obligations, suites, the run list ----------
+
+RING_MANIFEST = """\
+[suite]
+name = "rings"
+description = "a group without commutativity, and a lamp"
+source = "made up for a test"
+time_limit = 1
+axioms = ["ax/*.nj"]
+problems = ["goals/*.nj"]
+
+[settings]
+axiom_check_time = 0.5
+
+[expectations]
+"goals/g.nj#ring_comm" = "Theorem"
+"goals/g.nj#lamp_lit" = "Theorem"
+"""
+DARK = "axiom dark: forall x. not lit(x)\n"     # with lamp: lit(a), contradictory
+
+
+def write_rings(root: Path, extra: str = "") -> Path:
+    files = {"suite.toml": RING_MANIFEST, "ax/group.nj": SLOW_AXIOMS + extra,
+             "goals/g.nj": "conjecture ring_comm: forall x y. x * y = y * x\n"
+                           "conjecture lamp_lit: lit(a)\n"}
+    for name, text in files.items():
+        (root / name).parent.mkdir(parents=True, exist_ok=True)
+        (root / name).write_text(text)
+    return root
+
+
+class StatusClient:
+    """What ``nightjar status JOB`` asks for, answered by the Flask test client."""
+
+    def __init__(self, env):
+        self.env = env
+
+    def job(self, jid):
+        resp = self.env.c.get(f"/api/jobs/{jid}", headers=self.env.h)
+        assert resp.status_code == 200
+        return resp.get_json()
+
+
+def test_a_contradictory_axiom_marks_every_obligation_and_the_reused_theorem_too(
+        env, tmp_path, monkeypatch, capsys):
+    root = write_rings(tmp_path)
+    _, v1 = env.run_suite(root)
+    assert {k: r["verdict"] for k, r in rows(v1).items()} == {
+        "ring_comm": "Timeout", "lamp_lit": "Theorem"}
+
+    write_rings(tmp_path, DARK)                      # appended: the lamp proof still replays
+    _, v2 = env.run_suite(root)
+    r = rows(v2)
+    assert r["lamp_lit"]["reused"] and r["lamp_lit"]["verdict"] == "Theorem"
+    assert r["ring_comm"]["verdict"] == "ContradictoryAxioms" and not r["ring_comm"]["reused"]
+    assert all(x["axioms_contradictory"] for x in r.values())
+    assert r["lamp_lit"]["vacuous"]
+    s = v2["summary"]
+    assert s["axioms_consistent"] is False and s["on_contradictory_axioms"] == 2
+    d = v2["diff"]
+    assert sorted((x["key"], x["before"], x["after"]) for x in d["contradictory"]) == [
+        ("goals/g.nj#lamp_lit", "Theorem", "Theorem"),
+        ("goals/g.nj#ring_comm", "Timeout", "ContradictoryAxioms")]
+    assert d["gained"] == [] and s["gained"] == 0 and s["contradictory"] == 2
+    assert cli_corpus.exit_code(s) == 5
+
+    # the job records say so: the API's job, `nightjar status`, and the mark's text
+    jid = r["lamp_lit"]["job"]
+    job = env.c.get(f"/api/jobs/{jid}", headers=env.h).get_json()
+    assert job["verdict"] == "Theorem"               # the entailment stands
+    assert job["axioms_contradictory"].startswith(
+        f"AXIOMS CONTRADICTORY (corpus run {s['run']}: refuted on their own by the axiom "
+        f"check {v2['guards'][0]['job']}): the entailment holds, but vacuously")
+    # the mark follows the worker's own reason (what `status` and the job page show)
+    src = env.c.get(f"/api/jobs/{job['reused_from']}", headers=env.h).get_json()
+    assert src["reason"] and "AXIOMS" not in src["reason"]
+    assert job["reason"] == src["reason"] + "; and: " + job["axioms_contradictory"]
+    ca = env.c.get(f"/api/jobs/{r['ring_comm']['job']}", headers=env.h).get_json()
+    assert ca["axioms_contradictory"] and ca["reason"].startswith("the axioms contradict each other")
+    guard = env.c.get(f"/api/jobs/{v2['guards'][0]['job']}", headers=env.h).get_json()
+    assert "axioms_contradictory" not in guard
+    from service import cli_client
+    monkeypatch.setattr(cli_client, "_client", lambda args: StatusClient(env))
+    from service.cli import main
+    assert main(["status", jid]) == 0
+    out = capsys.readouterr().out
+    assert "Theorem" in out and "AXIOMS CONTRADICTORY (corpus run" in out
+    # reading the run again writes nothing twice
+    env.c.get(f"/api/corpus/runs/{s['run']}", headers=env.h)
+    again = env.c.get(f"/api/jobs/{jid}", headers=env.h).get_json()
+    assert again["reason"] == job["reason"]
+    # the run report marks both lines
+    report = cli_corpus.report_text(v2)
+    assert report.splitlines()[1].startswith("AXIOMS CONTRADICTORY: 1 axiom set (1 refuted on "
+                                             "its own by the axiom check")
+    lamp = next(ln for ln in report.splitlines() if "#lamp_lit" in ln)
+    assert "reused" in lamp and "VACUOUS" in lamp
+
+    # the axioms fixed: the reused copy carries no mark, the vacuous Theorem
+    # became a real one (gained), the contradiction that was no verdict is not lost
+    write_rings(tmp_path)
+    _, v3 = env.run_suite(root)
+    r3 = rows(v3)
+    assert r3["lamp_lit"]["reused"] and not r3["lamp_lit"]["axioms_contradictory"]
+    job3 = env.c.get(f"/api/jobs/{r3['lamp_lit']['job']}", headers=env.h).get_json()
+    assert job3["reused_from"] == jid and job3["reason"] == src["reason"]
+    assert "axioms_contradictory" not in job3
+    d = v3["diff"]
+    assert [(x["key"], x.get("before_contradictory")) for x in d["gained"]] == [
+        ("goals/g.nj#lamp_lit", True)]
+    assert d["lost"] == [] and d["contradictory"] == [] and not d["regression"]
+    assert cli_corpus.exit_code(v3["summary"]) == 3          # ring_comm: Timeout again
+
+
+def test_removing_a_settled_obligation_fails_the_gate_unless_allowed(
+        env, tmp_path, monkeypatch, capsys):
+    root = write_suite(tmp_path)
+    _, v1 = env.run_suite(root)
+    # a_lit (a Theorem) deleted with its expectation; b_lit stays
+    write_suite(tmp_path, {"goals/lamps.nj": "conjecture b_lit: lit(b)\n",
+                           "suite.toml": MANIFEST.replace(
+                               '"goals/lamps.nj#a_lit" = "Theorem"\n', "")})
+    _, v2 = env.run_suite(root)
+    d = v2["diff"]
+    assert d["removed"] == [{"key": "goals/lamps.nj#a_lit", "before": "Theorem", "settled": True}]
+    assert d["removed_settled"] == 1 and not d["regression"]
+    assert v2["summary"]["removed_settled"] == 1
+    assert cli_corpus.exit_code(v2["summary"]) == 6
+    assert cli_corpus.exit_code(v2["summary"], allow_removed=True) == 0
+    monkeypatch.setattr(cli_corpus, "_client", lambda args: ApiClient(env))
+    from service.cli import main
+    assert main(["corpus", "diff", "--suite", "paths"]) == 6
+    out = capsys.readouterr()
+    assert "REMOVED     goals/lamps.nj#a_lit  (was Theorem" in out.out
+    assert "no longer in the suite (goals/lamps.nj#a_lit)" in out.err and "--allow-removed" in out.err
+    assert main(["corpus", "diff", "--suite", "paths", "--allow-removed"]) == 0
+    capsys.readouterr()
+    # a removed obligation that had no verdict hides nothing: no gate
+    a = view("A", [("f#g", "Theorem", 0.1, ["x"], False), ("f#t", "Timeout", 5.0, [], False)])
+    b = view("B", [("f#g", "Theorem", 0.1, ["x"], True)])
+    assert cli_corpus.diff_exit_code(C.compare(a, b)) == 0
+
+
+class RaisingApiClient(ApiClient):
+    """As ApiClient, but an error answer raises the client's ApiError."""
+
+    def get(self, path, **q):
+        from service.client import ApiError
+        resp = self.env.c.get(path, query_string={k: v for k, v in q.items() if v is not None},
+                              headers=self.env.h)
+        if resp.status_code != 200:
+            raise ApiError(resp.status_code, resp.get_json()["error"])
+        return resp.get_json()
+
+
+def test_runs_of_two_suites_are_compared_only_when_asked(env, tmp_path, monkeypatch, capsys):
+    write_suite(tmp_path / "one")
+    write_suite(tmp_path / "two", {"suite.toml": MANIFEST.replace('name = "paths"',
+                                                                  'name = "lanes"')})
+    _, va = env.run_suite(tmp_path / "one")
+    _, vb = env.run_suite(tmp_path / "two")
+    ra, rb = va["summary"]["run"], vb["summary"]["run"]
+    resp = env.c.get(f"/api/corpus/diff?a={ra}&b={rb}", headers=env.h)
+    assert resp.status_code == 400
+    err = resp.get_json()["error"]
+    assert err["code"] == "different_suites" and err["suites"] == {"a": "paths", "b": "lanes"}
+    assert "across_suites=1" in err["message"]
+    assert env.c.get(f"/api/corpus/diff?a={ra}&b={rb}&across_suites=maybe",
+                     headers=env.h).status_code == 400
+    d = env.c.get(f"/api/corpus/diff?a={ra}&b={rb}&across_suites=1", headers=env.h).get_json()
+    assert d["across_suites"] is True and d["suite"] is None
+    assert d["suites"] == {"a": "paths", "b": "lanes"}
+    # one suite: as before
+    same = env.c.get(f"/api/corpus/diff?a={ra}&b={ra}", headers=env.h).get_json()
+    assert same["across_suites"] is False and same["suite"] == "paths"
+
+    monkeypatch.setattr(cli_corpus, "_client", lambda args: RaisingApiClient(env))
+    from service.cli import main
+    assert main(["corpus", "diff", ra, rb]) == 2
+    out = capsys.readouterr()
+    assert out.out == ""
+    assert f"run {ra} is of suite 'paths' and run {rb} of suite 'lanes'" in out.err
+    assert f"nightjar corpus diff {ra} {rb} --across-suites" in out.err
+    code = main(["corpus", "diff", ra, rb, "--across-suites"])
+    lines = capsys.readouterr().out.splitlines()
+    assert lines[0].startswith(f"SUITES DIFFER: run {ra} is of suite paths, run {rb} of suite "
+                               f"lanes")
+    assert lines[1] == f"suites paths -> lanes: run {ra} -> run {rb}"
+    assert code == 0          # the same files and verdicts: nothing else to say
+
+
+def test_corpus_runs_lists_newest_first_across_suites(env, tmp_path, monkeypatch, capsys):
+    write_suite(tmp_path / "p")
+    write_suite(tmp_path / "o", {"suite.toml": MANIFEST.replace('name = "paths"',
+                                                                'name = "other"')})
+    made = [env.run_suite(tmp_path / x)[1]["summary"]["run"] for x in ("p", "o", "p")]
+    # distinct, known creation times: paths, other, paths
+    cs = C.CorpusStore(env.r)
+    for t, rid in zip((1000.0, 2000.0, 3000.0), made):
+        rec = cs.get_run(rid)
+        rec["created"] = t
+        cs.save_run(rec)
+    monkeypatch.setattr(cli_corpus, "_client", lambda args: ApiClient(env))
+    from service.cli import main
+    assert main(["corpus", "runs"]) == 0
+    lines = capsys.readouterr().out.splitlines()
+    # grouped by suite ("other" first, then "paths") would be made[1], made[2], made[0]
+    assert [ln.split()[0] for ln in lines] == [made[2], made[1], made[0]]
+    assert [ln.split()[3] for ln in lines] == ["paths", "other", "paths"]
+    assert main(["corpus", "runs", "--json"]) == 0
+    listed = json.loads(capsys.readouterr().out)["runs"]
+    assert [x["run"] for x in listed] == [made[2], made[1], made[0]]
+    assert main(["corpus", "runs", "--suite", "paths"]) == 0
+    assert [ln.split()[0] for ln in capsys.readouterr().out.splitlines()] == [made[2], made[0]]

@@ -129,3 +129,79 @@ def test_run_and_suite_pages_show_the_axiom_check_job_and_the_manifest_path(
     page = env.get("/suites/ferrylines")
     assert "<td>one/suite.toml</td>" in page and "<td>two/suite.toml</td>" in page
     assert r2 in page
+
+
+def write_files(root, files):
+    for name, text in files.items():
+        (root / name).parent.mkdir(parents=True, exist_ok=True)
+        (root / name).write_text(text)
+
+
+def test_contradictory_axioms_are_shown_on_every_page_and_every_obligation(env, tmp_path):
+    write(tmp_path, ROUTES_1)
+    r1 = run(env, tmp_path)
+    # a last axiom file that contradicts the routes: both proofs still replay
+    write_files(tmp_path, {"ax/zz_closed.nj": "axiom closed: forall x y. not route(x, y)\n"})
+    r2 = run(env, tmp_path)
+    env.sign_in(env.alice)
+    page = env.get(f"/runs/{r2}")
+    rows = page.split('id="obligations"')[1]
+    assert rows.count("axioms contradictory</strong>") == 2 and rows.count(">vacuous<") == 2
+    assert rows.count("proof-replayed from") == 2        # both Theorems reused
+    axioms = page.split('id="axioms-state">')[1].split("</dd>")[0]
+    assert "contradictory" in axioms and "refuted by its" in axioms
+    assert "the 2 obligations on them say nothing" in axioms
+
+    page = env.get(f"/compare?a={r1}&b={r2}")
+    assert 'id="contradictory-banner"' in page and "<strong>Regression:</strong>" in page
+    sec = section(page, "contradictory")
+    assert 'class="count">2<' in sec
+    assert "goals/g.nj#to_heron" in sec and "goals/g.nj#to_ashford" in sec
+    assert 'class="count">0<' in section(page, "gained")
+    assert page.index('id="contradictory"') < page.index('id="gained"')
+
+    # the job page of a reused Theorem: still a Theorem, with the warning
+    api = env.app.test_client()
+    h = {"Authorization": f"Bearer {env.alice}"}
+    v = api.get(f"/api/corpus/runs/{r2}", headers=h).get_json()
+    heron = next(x for x in v["rows"] if x["key"] == "goals/g.nj#to_heron")
+    assert heron["reused"] and heron["verdict"] == "Theorem"
+    job = env.get(f"/jobs/{heron['job']}")
+    assert "Theorem" in job.split('id="verdict"')[1].split("</dd>")[0]
+    assert f"AXIOMS CONTRADICTORY (corpus run {r2}: refuted on their own" in job
+
+    page = env.get("/suites")
+    assert "contradictory</strong>" in page.split('id="suites"')[1]
+
+
+def test_compare_page_refuses_two_suites_unless_asked(env, tmp_path):
+    write(tmp_path / "a", ROUTES_1)
+    write(tmp_path / "b", ROUTES_1)
+    (tmp_path / "b" / "suite.toml").write_text(SUITE.replace('"ferrylines"', '"ferrylines-b"'))
+    r1 = run(env, tmp_path / "a")
+    r2 = run(env, tmp_path / "b")
+    env.sign_in(env.alice)
+    page = env.get(f"/compare?a={r1}&b={r2}", status=400)
+    assert "of suite &#39;ferrylines&#39;" in page and "ferrylines-b" in page
+    assert "No regression" not in page
+    link = page.split('id="compare-anyway"')[0].rsplit('href="', 1)[1].split('"')[0]
+    assert "across_suites=1" in link
+    page = env.get(link.replace("&amp;", "&"))
+    assert 'id="suites-differ"' in page
+    differ = page.split('id="suites-differ"')[1].split("</p>")[0]
+    assert "ferrylines" in differ and "ferrylines-b" in differ
+    # runs of one suite are compared as before
+    env.get(f"/compare?a={r1}&b={r1}")
+
+
+def test_compare_page_says_a_removed_settled_obligation_fails_the_gate(env, tmp_path):
+    write(tmp_path, ROUTES_1)
+    r1 = run(env, tmp_path)
+    write_files(tmp_path, {"goals/g.nj": "conjecture to_heron: reach(mill, heron)\n"})
+    r2 = run(env, tmp_path)
+    env.sign_in(env.alice)
+    page = env.get(f"/compare?a={r1}&b={r2}")
+    line = page.split('id="verdict-line"')[1].split("</p>")[0]
+    assert "Fails the gate" in line and "No regression" not in line
+    sec = section(page, "removed-settled")
+    assert 'class="count">1<' in sec and "goals/g.nj#to_ashford" in sec

@@ -1161,6 +1161,7 @@ def run(rid):
     view = full_view(r)
     return render_template("run.html", r=r, s=view["summary"], guards=view["guards"],
                            rows=view["rows"], diff=view["diff"],
+                           contradictions=view["contradictions"],
                            live=not view["summary"]["finished"],
                            sig=_signature(view["summary"]["done"]),
                            live_url=url_for("web.run_live", rid=rid))
@@ -1188,7 +1189,13 @@ def compare():
     if not a or not b:
         raise Bad("give two runs to compare: ?a=RUN&b=RUN, or ?suite=NAME")
     threshold = _float_arg("threshold")
+    across = request.args.get("across_suites", "") not in ("", "0")
     ra, rb = _run_or_404(a), _run_or_404(b)
+    refusal = C.suites_refusal(ra, rb)
+    if refusal and not across:      # as the API: only when asked for
+        html = render_template("compare.html", refused=refusal, a={"run": a}, b={"run": b},
+                               anyway=url_for("web.compare", a=a, b=b, across_suites=1))
+        return html, 400
     store, corpus = svc().store, _corpus()
     va, vb = C.view_of(store, corpus, ra), C.view_of(store, corpus, rb)
     diff = C.compare(va, vb, threshold=C.DEFAULT_TIME_THRESHOLD if threshold is None
@@ -1196,8 +1203,11 @@ def compare():
     jobs_a = {row["key"]: row for row in va["rows"]}
     jobs_b = {row["key"]: row for row in vb["rows"]}
     reused = [row for row in vb["rows"] if row["reused"]]
+    removed_settled = [x for x in diff["removed"] if x.get("settled")]
     return render_template("compare.html", diff=diff, a=va["summary"], b=vb["summary"],
-                           ja=jobs_a, jb=jobs_b, reused=reused)
+                           ja=jobs_a, jb=jobs_b, reused=reused, refused=None,
+                           removed_settled=removed_settled,
+                           contradictions_b=vb["contradictions"])
 
 
 __all__ = ["bp", "ConsoleSessions", "ensure_secret", "graph_layout", "model_view",
