@@ -231,6 +231,96 @@ def ensure_owner_token(store: Store, home: Path) -> str:
     return tok
 
 
+def children_file(home: Path) -> Path:
+    return home / "children.json"
+
+
+def _cmdline(pid: int) -> list[str]:
+    try:
+        raw = Path(f"/proc/{pid}/cmdline").read_bytes()
+    except OSError:
+        return []
+    return [a.decode("utf-8", "replace") for a in raw.split(b"\0") if a]
+
+
+def _is_our_redis(pid: int, data_dir: str) -> bool:
+    """A redis-server working in ``data_dir`` (Redis rewrites its command
+    line, so look at its program and its working folder, which is --dir)."""
+    try:
+        exe = os.readlink(f"/proc/{pid}/exe")
+        cwd = os.readlink(f"/proc/{pid}/cwd")
+    except OSError:
+        return False
+    return os.path.basename(exe).startswith("redis-server") and \
+        os.path.realpath(cwd) == os.path.realpath(data_dir)
+
+
+def _is_our_worker(pid: int, redis_url: str) -> bool:
+    args = _cmdline(pid)
+    return "service.cli" in args and "worker" in args and \
+        any(a == "--redis" and b == redis_url for a, b in zip(args, args[1:]))
+
+
+def _stop_pids(pids: list[int], sig_first=signal.SIGTERM, timeout: float = 15.0) -> None:
+    """Like :func:`stop_processes` for processes that are not our children."""
+    for pid in pids:
+        _signal_tree(pid, sig_first)
+    deadline = time.monotonic() + 1.5
+    while any(_alive(p) for p in pids) and time.monotonic() < deadline:
+        time.sleep(0.05)
+    for pid in pids:
+        if _alive(pid):
+            _signal_tree(pid, sig_first)
+    deadline = time.monotonic() + timeout
+    while any(_alive(p) for p in pids) and time.monotonic() < deadline:
+        time.sleep(0.05)
+    for pid in pids:
+        if _alive(pid):
+            _signal_tree(pid, signal.SIGKILL)
+
+
+def reap_orphans(home: Path) -> str:
+    """Stop the Redis and workers that an earlier ``serve`` of this home left
+    running when it was killed without stopping them (kill -9: its children
+    live in their own sessions).  Two redis-server processes on one data
+    folder would corrupt it, and orphaned workers would take jobs nobody
+    supervises.  Only processes whose command line is the one recorded in
+    ``children.json`` (the same binary role, data folder or Redis address)
+    are touched.  Redis gets SIGTERM, so it writes its append-only file out
+    before it exits; the workers' jobs are retried.  Returns a sentence for
+    the log, or "" when there was nothing to stop."""
+    try:
+        info = json.loads(children_file(home).read_text())
+    except (OSError, ValueError):
+        return ""
+    said = []
+    url = info.get("redis_url") or ""
+    workers = [int(p) for p in info.get("workers") or []
+               if _alive(int(p)) and _is_our_worker(int(p), url)]
+    if workers:
+        _stop_pids(workers)
+        said.append(f"{len(workers)} worker{'s' if len(workers) != 1 else ''}")
+    rpid = info.get("redis_pid")
+    if rpid and _alive(int(rpid)) and _is_our_redis(int(rpid), str(info.get("redis_dir"))):
+        _stop_pids([int(rpid)], timeout=30.0)
+        said.append(f"its Redis (pid {rpid})")
+    try:
+        children_file(home).unlink()
+    except OSError:
+        pass
+    if not said:
+        return ""
+    return ("nightjar: stopped " + " and ".join(said) + ", left running by a service "
+            "for this home that ended without stopping them")
+
+
+def _write_children(home: Path, rp, redis_url: str, procs) -> None:
+    _write_private(children_file(home), json.dumps({
+        "redis_pid": rp.proc.pid if rp and rp.proc else None,
+        "redis_dir": str(rp.data_dir) if rp else None,
+        "redis_url": redis_url, "workers": [p.pid for p in procs]}) + "\n")
+
+
 def running_service(home: Path) -> dict | None:
     """server.json if the service it names is up (its process alive)."""
     info = read_server(home)
@@ -266,6 +356,9 @@ def serve(*, home: Path | None = None, config: Config | None = None,
         stopping.set()
         raise KeyboardInterrupt
 
+    reaped = reap_orphans(home)
+    if reaped:                # worth saying even when quiet
+        print(reaped, file=sys.stderr, flush=True)
     old = {s: signal.signal(s, on_signal) for s in (signal.SIGTERM, signal.SIGINT)}
     rp = None
     procs: list[subprocess.Popen] = []
@@ -285,8 +378,11 @@ def serve(*, home: Path | None = None, config: Config | None = None,
         config = config.with_(redis_url=redis_url)
         n = workers if workers is not None else (os.cpu_count() or 1)
         env = dict(os.environ, NIGHTJAR_HOME=str(home))
+        if rp:
+            _write_children(home, rp, redis_url, procs)
         for i in range(n):
             procs.append(start_worker(redis_url, logs / f"worker-{i + 1}.log", env))
+        _write_children(home, rp, redis_url, procs)
         sweeper = Sweeper(redis_url, config)
         sweeper.start()
         app = create_app(config, r)
@@ -320,6 +416,10 @@ def serve(*, home: Path | None = None, config: Config | None = None,
         stop_processes(procs)
         if rp:
             rp.stop()
+        try:
+            children_file(home).unlink()
+        except OSError:
+            pass
         say("nightjar: stopped")
     return 0
 

@@ -123,6 +123,52 @@ def test_data_outlives_a_restart(service, tmp_path):
     assert j["verdict"] == "Theorem" and c.proof(j["id"])["proof"]["steps"]
 
 
+def _redis_servers_on(data_dir):
+    """Pids of redis-server processes working in ``data_dir`` (Redis
+    rewrites its command line; its working folder is its --dir)."""
+    out = []
+    for d in os.listdir("/proc"):
+        if not d.isdigit():
+            continue
+        try:
+            exe = os.readlink(f"/proc/{d}/exe")
+            cwd = os.readlink(f"/proc/{d}/cwd")
+        except OSError:
+            continue
+        if os.path.basename(exe).startswith("redis-server") and alive(int(d)) and \
+                os.path.realpath(cwd) == os.path.realpath(data_dir):
+            out.append(int(d))
+    return out
+
+
+def test_a_restart_after_kill_9_stops_the_orphans_first(service, tmp_path):
+    """kill -9 of `nightjar serve` leaves its Redis and workers running (they
+    live in their own sessions).  The next start stops them before it starts
+    its own: never two redis-server processes on one data folder; the data
+    written before the kill is all there."""
+    home, p = service("k")
+    c = Client(read_server(home)["url"], read_token(home))
+    sub = c.submit({"problem": {"main": "t.nj", "files": {"t.nj": THEOREM}}})
+    c.wait(sub["batch"], timeout=30)
+    kids = json.loads((home / "children.json").read_text())
+    old_redis, old_workers = kids["redis_pid"], kids["workers"]
+    assert _redis_servers_on(home / "redis") == [old_redis]
+    p.kill()
+    p.wait()
+    assert alive(old_redis) and all(alive(w) for w in old_workers)   # the orphans
+    home, p2 = service("k")
+    assert not alive(old_redis) and not any(alive(w) for w in old_workers)
+    now = _redis_servers_on(home / "redis")
+    assert len(now) == 1 and now[0] != old_redis
+    assert "left running by a service for this home" in (home / "logs" / "serve.log").read_text()
+    c = Client(read_server(home)["url"], read_token(home))
+    j = c.job(sub["jobs"][0]["id"])
+    assert j["verdict"] == "Theorem" and c.proof(j["id"])["proof"]["steps"]
+    stop_background(p2)
+    assert not (home / "children.json").exists()
+    assert _redis_servers_on(home / "redis") == []
+
+
 def test_demo_starts_submits_waits_and_stops(tmp_path):
     home = tmp_path / "demo-home"
     r = nightjar(home, "demo", "--json")
