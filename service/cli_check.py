@@ -9,6 +9,7 @@ error (raised through ``service.cli``).
 from __future__ import annotations
 
 import json
+import os
 import sys
 
 from worker.syntax import disk_reader, load_problem, require_conjecture
@@ -72,9 +73,20 @@ def _clausify_safely(problem, conj):
                             f"{type(e).__name__}: {e}") from e
 
 
+def load_file(path: str, *, language: str | None = None,
+              include_root: str | None = None):
+    """Read a problem file from disk as ``check``, ``clausify`` and ``prove``
+    do.  A folder is an InputError without a place (there is no line in it
+    to point at), so that, like a missing file, it is printed as one
+    ``nightjar: cannot read ...`` line (``service.cli.input_error_text``)."""
+    if os.path.isdir(path):
+        raise InputError(f"cannot read '{path}': it is a folder, not a file")
+    return load_problem(path, disk_reader(), language=language,
+                        include_root=include_root)
+
+
 def _load(path, args):
-    return load_problem(path, disk_reader(), language=args.language,
-                        include_root=args.include_root)
+    return load_file(path, language=args.language, include_root=args.include_root)
 
 
 def disk_text(name: str) -> str:
@@ -262,6 +274,7 @@ def render_check(rep: dict) -> str:
 
 
 def run_check(args) -> int:
+    from service.cli import input_error_text
     reports = []
     failed = False
     for path in args.files:
@@ -269,9 +282,10 @@ def run_check(args) -> int:
             rep = check_file(path, args)
         except InputError as e:
             failed = True
-            rep = {"file": path, "ok": False, "error": e.to_json()}
+            text = input_error_text(e)   # one nightjar: line when it has no place
+            rep = {"file": path, "ok": False, "error": {**e.to_json(), "text": text}}
             if not args.json:
-                print(e.render(), file=sys.stderr)
+                print(text, file=sys.stderr)
         except InternalError as e:
             failed = True
             rep = {"file": path, "ok": False, "error": {

@@ -9,11 +9,9 @@ obligation ended without a definite verdict.
 from __future__ import annotations
 
 import json
-import os
 import sys
 
 from worker import verdict as V
-from worker.syntax import disk_reader, load_problem
 from worker.syntax.errors import InputError
 
 from service.config import MIN_TIME_LIMIT
@@ -153,12 +151,11 @@ def run_prove(args) -> int:
                           model_search=not args.no_models)
     code = EXIT_OK
     from service.cli import input_error_text
+    from service.cli_check import load_file
     for path in args.files:
         try:
-            if os.path.isdir(path):      # no place in it to point at
-                raise InputError(f"cannot read '{path}': it is a folder, not a file")
-            problem = load_problem(path, disk_reader(), language=args.language,
-                                   include_root=args.include_root)
+            problem = load_file(path, language=args.language,
+                                include_root=args.include_root)
         except InputError as e:
             text = input_error_text(e)
             print(text, file=sys.stderr)

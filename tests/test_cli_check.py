@@ -164,3 +164,36 @@ def test_check_accepts_the_pelletier_set_in_both_languages(capsys):
             assert [s["name"] for s in a["statements"]] == [s["name"] for s in b["statements"]]
             assert [o["clauses"] for o in a["obligations"]] == \
                 [o["clauses"] for o in b["obligations"]]
+
+
+# -- files that cannot be opened: one nightjar: line, no made-up place, as prove -------
+
+@pytest.mark.parametrize("command", ["check", "clausify", "prove"])
+def test_a_missing_file_or_a_folder_is_one_nightjar_line(command, tmp_path, monkeypatch,
+                                                         capsys):
+    monkeypatch.chdir(tmp_path)
+    (tmp_path / "sched").mkdir()
+    code, out, err = run([command, "nothere.nj"], capsys)
+    assert code == 1 and err == "nightjar: cannot read 'nothere.nj': no such file\n"
+    code, out, err = run([command, "sched"], capsys)
+    assert code == 1 and err == "nightjar: cannot read 'sched': it is a folder, not a file\n"
+
+
+def test_check_json_of_a_missing_file_or_a_folder_has_no_place(tmp_path, monkeypatch,
+                                                               capsys):
+    monkeypatch.chdir(tmp_path)
+    (tmp_path / "sched").mkdir()
+    good = tmp_path / "ok.nj"
+    good.write_text("axiom only: p(a)\n")
+    code, out, err = run(["check", "--json", "nothere.nj", "sched", "ok.nj"], capsys)
+    assert code == 1 and err == ""
+    d = json.loads(out)
+    assert d["ok"] is False and [f["ok"] for f in d["files"]] == [False, False, True]
+    missing, folder = d["files"][0]["error"], d["files"][1]["error"]
+    assert (missing["line"], missing["col"], folder["line"], folder["col"]) == (None,) * 4
+    assert missing["text"] == "nightjar: cannot read 'nothere.nj': no such file"
+    assert folder["text"] == "nightjar: cannot read 'sched': it is a folder, not a file"
+    # the other files are still checked, and human output says the same lines
+    code, out, err = run(["check", "nothere.nj", "sched", "ok.nj"], capsys)
+    assert code == 1 and out.startswith("ok.nj: fine")
+    assert err.splitlines() == [missing["text"], folder["text"]]
