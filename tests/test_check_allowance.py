@@ -27,9 +27,10 @@ def _proof():
     return prob, cp, out["proof"]
 
 
-def test_allowance_is_a_quarter_of_the_limit_within_bounds():
-    assert V.check_allowance(1) == 1.0
-    assert V.check_allowance(20) == 5.0
+def test_allowance_is_a_fifth_of_the_limit_within_bounds():
+    assert V.check_allowance(0.1) == 0.1
+    assert V.check_allowance(1) == 0.2
+    assert V.check_allowance(20) == 4.0
     assert V.check_allowance(1000) == 60.0
 
 
@@ -61,5 +62,5 @@ def test_decide_answers_timeout_when_the_check_cannot_finish(monkeypatch):
 
 def test_the_service_hard_stop_covers_the_allowance():
     cfg = Config()
-    assert hard_stop_seconds(2, cfg) == 2 + 1 + cfg.grace_seconds
-    assert hard_stop_seconds(100, cfg) == 100 + 25 + cfg.grace_seconds
+    assert hard_stop_seconds(2, cfg) == 2 + 0.4 + cfg.grace_seconds
+    assert hard_stop_seconds(100, cfg) == 100 + 20 + cfg.grace_seconds
