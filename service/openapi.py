@@ -66,7 +66,10 @@ def errors(*codes):
     return {str(c): ERR for c in codes}
 
 
-def op(summary, ok_code, ok, *err_codes, params=(), body=None, secured=True, tags=("jobs",)):
+def op(summary, ok_code, ok, *err_codes, params=(), body=None, secured=True, tags=("jobs",),
+       described=None):
+    """An operation; ``described``: {status: description} for error answers
+    that say more than the generic one (the Error schema still)."""
     o = {"summary": summary, "tags": list(tags), "responses": {str(ok_code): ok}}
     o["responses"].update(errors(*err_codes))
     if secured:
@@ -75,6 +78,8 @@ def op(summary, ok_code, ok, *err_codes, params=(), body=None, secured=True, tag
         o["responses"].update(errors(400, 401, 429))
         if any(p["in"] == "path" for p in params):
             o["responses"].update(errors(404))
+    for code, desc in (described or {}).items():
+        o["responses"][str(code)] = json_resp(desc, ref("Error"))
     if params:
         o["parameters"] = list(params)
     if body is not None:
@@ -140,7 +145,8 @@ def components() -> dict:
                 required=("id", "total", "states", "verdicts"))
     error = obj({"error": obj({"code": S, "message": S, "file": nullable(S),
                                "line": nullable(I), "col": nullable(I), "text": S,
-                               "limit": N, "retry_after": N, "field": S},
+                               "limit": N, "retry_after": N, "field": S,
+                               "suites": obj({"a": nullable(S), "b": nullable(S)})},
                               required=("code", "message"))},
                 required=("error",))
     return {
@@ -248,8 +254,16 @@ def paths() -> dict:
             json_resp("the comparison", anyobj), 400, 404,
             params=(query("a", S, "earlier run"), query("b", S, "later run"),
                     query("suite", S, "a suite: compare its last two runs"),
-                    query("threshold", N, "seconds that count as a slow-down")),
-            tags=("corpus",))},
+                    query("threshold", N, "seconds that count as a slow-down"),
+                    query("across_suites", {"type": "string",
+                                            "enum": ["1", "0", "true", "false", "yes", "no"]},
+                          "1: compare runs a and b even when they are runs of two "
+                          "different suites (refused otherwise, code different_suites)")),
+            tags=("corpus",),
+            described={400: "code bad_request (a missing run id, a bad threshold or "
+                            "across_suites), or code different_suites: runs a and b are "
+                            "of two different suites and across_suites=1 was not given; "
+                            "the error names them in suites {a, b}"})},
     }
 
 
