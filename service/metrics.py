@@ -5,6 +5,7 @@ format (version 0.0.4, an open standard).
     nightjar_jobs{state}                   our job records, per state
     nightjar_verdicts_total{verdict}       settled jobs per SZS verdict
     nightjar_job_seconds                   histogram of the engine seconds of done jobs
+                                           that searched (a reused job did no search)
     nightjar_workers_alive                 RQ workers alive (registered, beating)
     nightjar_running_jobs                  jobs held by a live attempt
     nightjar_redis_used_memory_bytes       Redis's own figure
@@ -74,10 +75,10 @@ def job_figures(r: redis.Redis) -> dict:
     for keys in _scan_batches(r, "nj:job:*"):
         pipe = r.pipeline(transaction=False)
         for k in keys:
-            pipe.hmget(k, ["state", "verdict", "seconds"])
-        for st, vd, sec in pipe.execute():
+            pipe.hmget(k, ["state", "verdict", "seconds", "reused_from"])
+        for st, vd, sec, rf in pipe.execute():
             if st is not None:           # None: deleted between SCAN and HMGET
-                for f, n in job_counts(st, vd, sec).items():
+                for f, n in job_counts(st, vd, sec, rf).items():
                     total[f] = total.get(f, 0) + n
     return figures_of(total)
 
@@ -164,7 +165,8 @@ def render(r: redis.Redis) -> str:
            [({"verdict": v}, n) for v, n in sorted(figs["verdicts"].items())])
     hist = [({"le": _num(float(b))}, n) for b, n in zip(BUCKETS, figs["buckets"])]
     hist.append(({"le": "+Inf"}, figs["count"]))
-    out.append("# HELP nightjar_job_seconds Engine seconds of done jobs.")
+    out.append("# HELP nightjar_job_seconds Engine seconds of done jobs that searched "
+               "(a job answered by reuse did no search and is not counted).")
     out.append("# TYPE nightjar_job_seconds histogram")
     for labels, n in hist:
         out.append(f'nightjar_job_seconds_bucket{{le="{labels["le"]}"}} {n}')

@@ -33,15 +33,18 @@ BUCKETS = (0.01, 0.05, 0.1, 0.25, 0.5, 1.0, 2.5, 5.0, 10.0, 30.0, 60.0, 120.0, 3
 # A job record whose ``metered`` field holds this is included in the counters
 # under ``nj:metrics:<METER_GEN>``; every change of such a job changes them in
 # the same transaction.  A new generation (other buckets, a repair) starts an
-# empty key and the rebuild counts every job into it.
-METER_GEN = "1"
+# empty key and the rebuild counts every job into it.  "2": reused jobs left
+# the seconds histogram (generation "1" counted their copied seconds).
+METER_GEN = "2"
 
 
-def job_counts(state, verdict, seconds) -> dict[str, int]:
+def job_counts(state, verdict, seconds, reused_from=None) -> dict[str, int]:
     """What one job adds to the counters: ``s:<state>``, ``v:<verdict>`` and,
-    for a done job with finite seconds, ``count``, ``sum_us`` (integer
-    microseconds, so sums are exact and order-free) and ``h:<i>``: the index
-    of the first bucket it fits (``h:inf`` for none); render cumulates."""
+    for a done job with finite seconds that searched itself (no
+    ``reused_from``: a reused job's seconds are the original search's),
+    ``count``, ``sum_us`` (integer microseconds, so sums are exact and
+    order-free) and ``h:<i>``: the index of the first bucket it fits
+    (``h:inf`` for none); render cumulates."""
     state, verdict, seconds = _s(state), _s(verdict), _s(seconds)
     out = {}
     if not state:
@@ -49,7 +52,7 @@ def job_counts(state, verdict, seconds) -> dict[str, int]:
     out["s:" + state] = 1
     if verdict:
         out["v:" + verdict] = 1
-    if state == "done" and seconds not in (None, ""):
+    if state == "done" and seconds not in (None, "") and not _s(reused_from):
         try:
             x = float(seconds)
         except ValueError:
@@ -235,7 +238,8 @@ class Store:
                 rec["state"] = "queued"
                 counts["queued"] = counts.get("queued", 0) + 1
             _add_counts(metered, job_counts(rec["state"], rec.get("verdict"),
-                                            str(rec.get("seconds", ""))))
+                                            str(rec.get("seconds", "")),
+                                            rec.get("reused_from")))
             pipe.hset(self.k_job(jid), mapping={k: str(v) for k, v in rec.items()})
             pipe.rpush(self.k_batch_jobs(bid), jid)
             if src is None and enqueue is not None:
@@ -367,9 +371,10 @@ class Store:
         if rec.get("metered") == METER_GEN:
             delta: dict[str, int] = {}
             _add_counts(delta, job_counts(rec["state"], rec.get("verdict"),
-                                          rec.get("seconds")), -1)
+                                          rec.get("seconds"), rec.get("reused_from")), -1)
             _add_counts(delta, job_counts(new_state, verdict or rec.get("verdict"),
-                                          rec.get("seconds") if seconds is None else seconds))
+                                          rec.get("seconds") if seconds is None else seconds,
+                                          rec.get("reused_from")))
             self._stage_counts(pipe, delta)
 
     def _stage_counts(self, pipe, delta: dict[str, int]) -> None:
@@ -518,13 +523,14 @@ class Store:
                     reads = self.r.pipeline(transaction=False)
                     for jid in ids:
                         reads.hmget(self.k_job(jid), ["reuse_key", "owner", "state",
-                                                      "verdict", "seconds", "metered"])
+                                                      "verdict", "seconds", "metered",
+                                                      "reused_from"])
                     fields = reads.execute()
                     pipe.multi()
                     delta: dict[str, int] = {}
-                    for jid, (rk, owner, st, vd, sec, m) in zip(ids, fields):
+                    for jid, (rk, owner, st, vd, sec, m, rf) in zip(ids, fields):
                         if _s(m) == METER_GEN:
-                            _add_counts(delta, job_counts(st, vd, sec), -1)
+                            _add_counts(delta, job_counts(st, vd, sec, rf), -1)
                         pipe.delete(self.k_job(jid), self.k_result(jid), self.k_alive(jid))
                         pipe.zrem(self.K_QUEUED, jid)
                         pipe.srem(self.K_RUNNING, jid)
@@ -580,15 +586,16 @@ class Store:
                     pipe.watch(*keys)
                     reads = self.r.pipeline(transaction=False)
                     for k in keys:
-                        reads.hmget(k, ["state", "verdict", "seconds", "metered"])
+                        reads.hmget(k, ["state", "verdict", "seconds", "metered",
+                                        "reused_from"])
                     rows = reads.execute()
                     pipe.multi()
                     delta: dict[str, int] = {}
                     n = 0
-                    for k, (st, vd, sec, m) in zip(keys, rows):
+                    for k, (st, vd, sec, m, rf) in zip(keys, rows):
                         if st is None or _s(m) == METER_GEN:
                             continue        # deleted, or counted already
-                        _add_counts(delta, job_counts(st, vd, sec))
+                        _add_counts(delta, job_counts(st, vd, sec, rf))
                         pipe.hset(k, "metered", METER_GEN)
                         n += 1
                     self._stage_counts(pipe, delta)

@@ -331,6 +331,8 @@ def test_submit_a_problem_and_read_every_page(env):
     assert re.search(r'class="step axiom axiom-used"', proof)       # used axioms marked
     assert f'/jobs/{g}#L1' in proof                                 # input step -> its line
     assert re.search(r'<a href="#step-\d+" class="parent">', proof)
+    # the rule's clause keeps the statement's variable name
+    assert "not p(x) or q(x)" in proof
     env.get(f"/jobs/{g}/model", status=404)
 
     model = env.get(f"/jobs/{h}/model")

@@ -27,6 +27,7 @@ class InputClause:
     conj: bool                  # derived from the (negated) conjecture
     skolems: tuple = ()         # Skolem symbols introduced for the source formula that occur here
     definitions: tuple = ()     # definition predicates that occur here
+    varnames: tuple = ()        # the user's names of variables 0..n-1 ("" where none), for printing
 
 
 @dataclass(slots=True)

@@ -337,6 +337,7 @@ class _Skolemizer:
         self.fresh_skolem = fresh_skolem  # (arity, user var name) -> name
         self.varnames = varnames
         self.env = {}                     # bound variable -> term
+        self.origin = {}                  # fresh variable -> the bound variable it stands for
         self.next_var = 0
         # Copies of one existential subformula (made by expanding an
         # equivalence, or by a definition used both ways) over the same
@@ -348,6 +349,7 @@ class _Skolemizer:
         # are read as universally quantified.
         for v in sorted(node[1]):
             self.env[v] = self._fresh_var()
+            self.origin[self.env[v]] = v
         return self.walk(node)
 
     def _fresh_var(self):
@@ -366,6 +368,7 @@ class _Skolemizer:
         v, body = node[2], node[3]
         if tag == 'F':
             env[v] = self._fresh_var()
+            self.origin[env[v]] = v
         else:
             # The Skolem arguments: the universal variables that occur in the
             # terms standing for the scope's free variables (inner
@@ -447,8 +450,10 @@ def _cnf(node, budget, statement):
     return out
 
 
-def _clean(lits):
-    """Drop repeated literals; None for a tautology; variables renumbered."""
+def _clean(lits, names=None):
+    """Drop repeated literals; None for a tautology; variables renumbered.
+    With ``names`` (fresh variable -> the user's name) returns also the
+    names of the renumbered variables (a tuple, "" where none is known)."""
     seen = set()
     out = []
     for lit in lits:
@@ -461,8 +466,35 @@ def _clean(lits):
             return None
         seen.add(lit)
         out.append(lit)
-    atoms, _ = normalize_vars([a for _, a in out])
-    return tuple((s, a) for (s, _), a in zip(out, atoms))
+    atoms, mapping = normalize_vars([a for _, a in out])
+    clean = tuple((s, a) for (s, _), a in zip(out, atoms))
+    if names is None:
+        return clean
+    return clean, _unique_names([names.get(f, "") for f in mapping])
+
+
+def _unique_names(names: list) -> tuple:
+    """The user's names of one clause's variables, each used once: a second
+    variable of the same name (copies made by expanding an equivalence, or
+    the same name bound twice) gets ``_2``, ``_3``, ..."""
+    out = []
+    taken = set(n for n in names if n)
+    seen: dict = {}
+    for n in names:
+        if not n:
+            out.append("")
+            continue
+        k = seen.get(n, 0) + 1
+        seen[n] = k
+        if k == 1:
+            out.append(n)
+            continue
+        m = k
+        while f"{n}_{m}" in taken:
+            m += 1
+        out.append(f"{n}_{m}")
+        taken.add(f"{n}_{m}")
+    return tuple(out)
 
 
 # ------------------------------------------------------------------ distinct objects
@@ -675,7 +707,7 @@ def _clausify(problem, conjecture, naming_limit):
 
         if node is False:
             formulas = []
-            found_clauses = [()]
+            found_clauses = [((), {})]
             if trivial is None:
                 trivial = (f"the conjecture '{st.name}' simplifies to true"
                            if negate else
@@ -697,20 +729,26 @@ def _clausify(problem, conjecture, naming_limit):
                 defs_here.append(name)
             found_clauses = []
             reuse = {}
+            vn = st.varnames or {}
             for f in formulas:
                 flat = _expand(f)
                 if type(flat) is bool:      # cannot happen for named nodes
                     if flat is False:
-                        found_clauses.append(())
+                        found_clauses.append(((), {}))
                     continue
-                body = _Skolemizer(fresh_skolem, st.varnames, reuse).run(flat)
+                sk = _Skolemizer(fresh_skolem, st.varnames, reuse)
+                body = sk.run(flat)
+                user_names = {f: vn.get(v, "") for f, v in sk.origin.items()}
                 budget.check(budget.clauses + len(found_clauses)
                              + _count(body), 0, st)
-                found_clauses.extend(_cnf(body, budget, st))
+                found_clauses.extend((c, user_names) for c in _cnf(body, budget, st))
         seen = set()
-        for lits in found_clauses:
-            lits = _clean(lits)
-            if lits is None or lits in seen:
+        for lits, user_names in found_clauses:
+            cleaned = _clean(lits, user_names)
+            if cleaned is None:
+                continue
+            lits, varnames = cleaned
+            if lits in seen:
                 continue
             seen.add(lits)
             budget.clauses += 1
@@ -723,7 +761,8 @@ def _clausify(problem, conjecture, naming_limit):
             clauses.append(InputClause(
                 lits=lits, source=st.name, role=st.role, conj=conj,
                 skolems=tuple(n for n in mine if n in used),
-                definitions=tuple(n for n in defs_here if n in used)))
+                definitions=tuple(n for n in defs_here if n in used),
+                varnames=varnames))
 
     # What the input language implies: distinct objects are pairwise unequal
     # (DEVELOPERS.md, "TPTP import").

@@ -173,7 +173,8 @@ def finite_domain_answer(cp, closures, excluded, deadline: float):
 def engine_inputs(cp, equality: str = "builtin") -> list:
     """The clauses the loop starts from: ``(lits, rule, fields, conj)``."""
     inputs = [(ic.lits, "input",
-               {"formula": ic.source, "role": ic.role, "conj": bool(ic.conj)},
+               {"formula": ic.source, "role": ic.role, "conj": bool(ic.conj),
+                **({"varnames": ic.varnames} if any(ic.varnames) else {})},
                bool(ic.conj)) for ic in cp.clauses]
     if equality == "axioms" and uses_equality(cp):
         inputs += [(lits, "equality_axiom", {}, False) for lits in equality_axioms(cp)]

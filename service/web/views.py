@@ -789,23 +789,28 @@ def proof(jid):
     if pf is None:
         abort(404, f"job {jid} has no proof" + (f" (its verdict is {rec['verdict']})"
                                                  if rec.get("verdict") else " yet"))
-    from worker.saturation.proof import describe_step
-    from worker.syntax.printer import format_clause
-    from worker.syntax.terms import clause_from_json
+    from worker.saturation.proof import clause_text, describe_step, step_names
 
     bundle = _bundle_of(jid)
     places = statement_places(bundle)
     prefixes = _anchor_prefixes(bundle) if bundle else {}
     used = set(pf.get("axioms_used") or [])
     steps = []
+    names_of = {}
+    for st in pf.get("steps") or []:
+        try:
+            if st.get("varnames"):
+                names_of[st["id"]] = step_names(st)
+        except Exception:
+            pass
     for st in pf.get("steps") or []:
         st = dict(st)
         try:
-            st["_text"] = format_clause(clause_from_json(st["clause"]))
+            st["_text"] = clause_text(st)
         except Exception as e:
             st["_text"] = f"(cannot print: {type(e).__name__})"
         try:
-            st["_why"] = describe_step(st)
+            st["_why"] = describe_step(st, names_of)
         except Exception:
             st["_why"] = st.get("rule", "")
         if st.get("rule") == "input":

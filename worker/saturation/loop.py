@@ -679,7 +679,15 @@ class Saturation:
             atoms, mapping = normalize_vars([a for _, a in lits])
             raw = tuple((sg, a) for (sg, _), a in zip(lits, atoms))
             nv = len(mapping)
-            c = Clause(self.next_id, raw, nv, rule, (), dict(fields), conj)
+            fields = dict(fields)
+            if "varnames" in fields:      # the user's names, renumbered with the clause
+                given = fields["varnames"]
+                names = [""] * nv
+                for old, new in mapping.items():
+                    if 0 <= old < len(given):
+                        names[new] = given[old]
+                fields["varnames"] = tuple(names)
+            c = Clause(self.next_id, raw, nv, rule, (), fields, conj)
             self.next_id += 1
             self.max_vars = max(self.max_vars, nv)
             c.source = fields.get("formula")

@@ -51,6 +51,9 @@ def extract(empty, cp=None) -> dict:
             st["formula"] = info.get("formula")
             st["role"] = info.get("role")
             st["conj"] = bool(info.get("conj"))
+            if any(info.get("varnames") or ()):
+                # the statement's own names for the clause's variables
+                st["varnames"] = list(info["varnames"])
             if not st["conj"] and st["formula"] not in axioms:
                 axioms.append(st["formula"])
         else:
@@ -76,20 +79,39 @@ def _pos(p) -> str:
     return ".".join(str(i) for i in p) if p else "root"
 
 
-def _subst_text(subst: dict, parents=(), offsets=None) -> str:
+def step_names(st: dict) -> dict | None:
+    """Printed names of a step's variables: an input step keeps the names
+    its statement gave them (``varnames``); None: X0, X1, ..."""
+    vn = st.get("varnames")
+    if not vn:
+        return None
+    names = {k: n for k, n in enumerate(vn) if type(n) is str and n}
+    return names or None
+
+
+def clause_text(st: dict) -> str:
+    """A step's clause in the native notation, in the step's own names."""
+    return format_clause(clause_from_json(st["clause"]), step_names(st))
+
+
+def _subst_text(subst: dict, parents=(), offsets=None, names_of=None) -> str:
     """The substitution in the parents' own variable names: the parents'
     variables were renamed apart by adding ``offsets[k]``, so variable ``v``
     belongs to the parent with the largest offset not above it and is shown
-    as ``X<v - offset>@<parent>`` (``X0@3``: variable X0 of step 3)."""
+    as ``X<v - offset>@<parent>`` (``X0@3``: variable X0 of step 3), or by
+    the parent's own name for it (``x@3``) where ``names_of`` (step id ->
+    :func:`step_names`) has one."""
     if not subst:
         return ""
     offs = list(offsets if offsets is not None else [0] * len(parents))
     owners = sorted(((o, p) for o, p in zip(offs, parents)), reverse=True)
+    names_of = names_of or {}
 
     def name(v: int) -> str:
         for o, p in owners:
             if v >= o:
-                return f"X{v - o}@{p}"
+                own = (names_of.get(p) or {}).get(v - o)
+                return f"{own}@{p}" if own else f"X{v - o}@{p}"
         return f"X{v}"
 
     names = {}
@@ -114,7 +136,7 @@ def _distinct_text(st: dict) -> str:
             f"(TPTP language){whose}")
 
 
-def describe_step(st: dict) -> str:
+def describe_step(st: dict, names_of: dict | None = None) -> str:
     """The justification column of one step."""
     rule = st["rule"]
     ps = st.get("parents") or []
@@ -134,7 +156,7 @@ def describe_step(st: dict) -> str:
                 f"satisfies the axioms{' and the negated conjecture' if st.get('conj') else ''}"
                 f"{counted}; "
                 f"from {len(ps)} input clauses")
-    sub = _subst_text(st.get("subst") or {}, ps, st.get("offsets"))
+    sub = _subst_text(st.get("subst") or {}, ps, st.get("offsets"), names_of)
     lits = st.get("lits") or []
     if rule == "superposition" or rule == "demodulation":
         how = rule            # the rule's own name, as the console and the checker say it
@@ -181,9 +203,10 @@ def format_proof(proof: dict) -> str:
                          f"in {info['statement']}")
     steps = proof.get("steps", [])
     width = len(str(len(steps) and steps[-1]["id"]))
+    names_of = {st["id"]: step_names(st) for st in steps if st.get("varnames")}
     for st in steps:
-        text = format_clause(clause_from_json(st["clause"]))
-        lines.append(f"  {st['id']:>{width}}. {text}    [{describe_step(st)}]")
+        lines.append(f"  {st['id']:>{width}}. {clause_text(st)}    "
+                     f"[{describe_step(st, names_of)}]")
     if proof.get("axioms_used"):
         lines.append("  axioms used: " + ", ".join(proof["axioms_used"]))
     notes = _notation(steps)
@@ -192,14 +215,30 @@ def format_proof(proof: dict) -> str:
     return "\n".join(lines)
 
 
+def variables_of_clause(clause_json) -> set:
+    out: set = set()
+    for _s, a in clause_from_json(clause_json):
+        variables(a, out)
+    return out
+
+
 def _notation(steps) -> list:
     """One-line explanations of the notation the steps use, for a reader who
     meets it for the first time."""
     out = []
-    if any(st["rule"] not in ("input", "finite_domain") for st in steps):
-        out.append("X0, X1, ... stand for any terms (each clause says: for all X0, X1, ...)")
+
+    def has_vars(st):
+        return bool(variables_of_clause(st.get("clause") or []))
+    named = any(st.get("varnames") for st in steps)
+    if any(st["rule"] not in ("input", "finite_domain") and has_vars(st) for st in steps):
+        out.append("X0, X1, ... stand for any terms (each clause says: for all X0, X1, ...)"
+                   + ("; a clause taken from a statement keeps the statement's variable names"
+                      if named else ""))
+    elif named:
+        out.append("a clause taken from a statement keeps the statement's variable names "
+                   "(each clause says: for all of them)")
     if any(st.get("subst") for st in steps):
-        out.append("X0@5 := t: variable X0 of step 5 is replaced by t")
+        out.append("X0@5 := t (or x@5 := t): variable X0 (or x) of step 5 is replaced by t")
     if any(st.get("position") for st in steps):
         out.append("a position lists argument numbers from the top of the literal, "
                    "counted from 1 (2.1: the first argument of its second side)")
