@@ -440,18 +440,22 @@ def batches_live():
 def light_rows(bid: str) -> list[dict]:
     """Every job of a batch with only what sorting, filtering and the charts
     need (one pipelined HMGET; the page then reads whole records for its
-    rows only)."""
+    rows only).  ``seconds`` is the job's own search's: None for a reused
+    job (``reused`` true), whose record holds the original search's seconds
+    (DEVELOPERS.md, "Command line": seconds shown are the job's own)."""
     store = svc().store
     ids = store.batch_job_ids(bid)
     pipe = store.r.pipeline(transaction=False)
-    fields = ["file", "conjecture", "state", "verdict", "seconds"]
+    fields = ["file", "conjecture", "state", "verdict", "seconds", "reused_from"]
     for jid in ids:
         pipe.hmget(store.k_job(jid), fields)
     out = []
     for i, (jid, vals) in enumerate(zip(ids, pipe.execute())):
         d = dict(zip(fields, ((v.decode() if isinstance(v, bytes) else v) for v in vals)))
+        d["reused"] = bool(d.pop("reused_from", None))
         try:
-            d["seconds"] = float(d["seconds"]) if d.get("seconds") else None
+            d["seconds"] = (float(d["seconds"]) if d.get("seconds") and not d["reused"]
+                            else None)
         except ValueError:
             d["seconds"] = None
         d["id"], d["index"] = jid, i
@@ -486,8 +490,26 @@ def _sort_key(sort):
     if sort == "verdict":
         return lambda r: (r.get("verdict") or "~", r["index"])
     if sort == "time":
-        return lambda r: (r["seconds"] is None, r["seconds"] or 0.0, r["index"])
+        return _time_key
     return lambda r: r["index"]
+
+
+def _time_key(r):
+    """By the job's own search: the searched jobs by their seconds, then the
+    reused ones (no search), then those without seconds yet."""
+    return (0 if r["seconds"] is not None else 1 if r["reused"] else 2,
+            r["seconds"] or 0.0, r["index"])
+
+
+def sort_rows(rows: list[dict], sort: str, desc: bool) -> None:
+    """Sort the batch page's rows in place.  By time, descending turns only
+    the searched jobs round: jobs without a search time of their own (reused,
+    not settled) stay after them, in the same order either way."""
+    if sort == "time" and desc:
+        rows.sort(key=lambda r: (_time_key(r)[0], -(r["seconds"] or 0.0),
+                                 -r["index"] if r["seconds"] is not None else r["index"]))
+    else:
+        rows.sort(key=_sort_key(sort), reverse=desc)
 
 
 def verdict_chart(batch: dict) -> dict:
@@ -507,8 +529,15 @@ def verdict_chart(batch: dict) -> dict:
             "label_w": label_w}
 
 
+def reused_done(rows: list[dict]) -> int:
+    """How many finished jobs were answered by reuse (no search: not in the
+    time histogram)."""
+    return sum(1 for r in rows if r["reused"] and r["state"] == "done")
+
+
 def time_chart(rows: list[dict], nbins: int = 12) -> dict | None:
-    """A histogram of the seconds of the settled jobs."""
+    """A histogram of the seconds of the finished jobs' own searches (a
+    reused job did none: it is left out, and counted in ``reused``)."""
     secs = [r["seconds"] for r in rows if r["seconds"] is not None and r["state"] == "done"]
     if not secs:
         return None
@@ -528,7 +557,8 @@ def time_chart(rows: list[dict], nbins: int = 12) -> dict | None:
                      "y": height - pad_b - h, "h": h, "n": n,
                      "lo": _fmt_s(i * step), "hi": _fmt_s((i + 1) * step)})
     return {"bars": bars, "width": width, "height": height, "base": height - pad_b,
-            "pad_l": pad_l, "top": top, "max": _fmt_s(nb * step), "n": len(secs)}
+            "pad_l": pad_l, "top": top, "max": _fmt_s(nb * step), "n": len(secs),
+            "reused": reused_done(rows)}
 
 
 def _nice_step(x: float) -> float:
@@ -571,7 +601,7 @@ def batch(bid):
               and (not q or q.lower() in r["name"].lower())
               and (tmin is None or (r["seconds"] is not None and r["seconds"] >= tmin))
               and (tmax is None or (r["seconds"] is not None and r["seconds"] <= tmax))]
-    chosen.sort(key=_sort_key(sort), reverse=desc)
+    sort_rows(chosen, sort, desc)
     pages = max(1, math.ceil(len(chosen) / per))
     if page > pages:
         page = pages
@@ -611,6 +641,7 @@ def batch(bid):
         max_s=request.args.get("max_s") or "", sort=sort, desc=desc, link=link,
         sort_link=sort_link, states=STATES, verdicts_seen=verdicts_seen,
         page_sizes=PAGE_SIZES, vchart=verdict_chart(b), tchart=time_chart(rows),
+        treused=reused_done(rows),
         live=not b["finished"], sig=_signature(_batch_live(b)),
         live_url=url_for("web.batch_live", bid=bid))
 
