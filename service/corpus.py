@@ -18,7 +18,8 @@ Three layers, each usable on its own:
 * **Views and comparisons**: :func:`run_view` (pure) joins a run record with
   its job records and marks every obligation on axioms the run found
   contradictory; :func:`view_of` reads the records and writes that mark on
-  the job records too; :func:`compare` (pure) puts each obligation in one
+  the job records too, where the settle hook (:mod:`service.corpus_marks`)
+  has not already; :func:`compare` (pure) puts each obligation in one
   list (on contradictory axioms, flipped, lost, gained, answered, added,
   removed) and says what is unexpected, slower or faster, and whose axioms
   used changed.
@@ -43,6 +44,10 @@ from dataclasses import dataclass, field
 from worker import verdict as V
 from worker.syntax import InputError, Span, bundle_reader, load_problem
 from worker.syntax.formulas import CONJECTURE, NEGATED_CONJECTURE
+
+from . import corpus_marks as CM
+from .corpus_marks import (MARK_FIELD, MARK_SEP, contradiction_text, mark_text,  # noqa: F401
+                           unmarked_reason)
 
 MANIFEST = "suite.toml"
 MAIN = "_suite_.nj"                 # the synthetic main file of a problem with suite axioms
@@ -626,19 +631,24 @@ def plan_guard_reuse(guards: list, previous: dict | None, store, check_model=Non
 class CorpusStore:
     """Run records, kept until deleted, under ``nj:corpus:``."""
 
-    P = "nj:corpus:"
+    P = CM.P
 
     def __init__(self, r):
         self.r = r
 
-    def k_run(self, rid): return f"{self.P}run:{rid}"
+    def k_run(self, rid): return CM.k_run(rid)
     def k_runs(self, owner, suite): return f"{self.P}runs:{owner}:{suite}"
     def k_suites(self, owner): return f"{self.P}suites:{owner}"
 
     def save_run(self, run: dict) -> None:
+        """The run record and, in the same transaction, its job index
+        (``corpus_marks.k_batch``: each job's place, for the settle hook)."""
         from .store import pack
         pipe = self.r.pipeline(transaction=True)
         pipe.set(self.k_run(run["id"]), pack(run))
+        index = CM.job_index(run)
+        if index and run.get("batch"):
+            pipe.hset(CM.k_batch(run["batch"]), mapping=index)
         pipe.zadd(self.k_runs(run["owner"], run["suite"]), {run["id"]: run["created"]})
         pipe.sadd(self.k_suites(run["owner"]), run["suite"])
         pipe.execute()
@@ -798,7 +808,7 @@ def create_run(store, corpus: CorpusStore, dispatcher, owner: str, body: dict, *
                         for i, info in reuse.items()}
     reused_for_store.update({i: info["record"] for i, info in guard_reuse.items()})
     rid = new_run_id()
-    bid, ids = store.create_batch(owner, jobs, label=f"corpus {sub['suite']} {rid}",
+    bid, ids = store.create_batch(owner, jobs, label=f"{CM.LABEL_PREFIX}{sub['suite']} {rid}",
                                   queue_name=queue_name, settings=sub["settings"],
                                   enqueue=dispatcher.enqueue if dispatcher else None,
                                   reused=reused_for_store)
@@ -827,6 +837,14 @@ def create_run(store, corpus: CorpusStore, dispatcher, owner: str, body: dict, *
             "job": jid, "axiom_set": ob["axiom_set"], "conjecture_hash": ob["conjecture_hash"],
             "reused": None if info is None else {k: v for k, v in info.items() if k != "record"}})
     corpus.save_run(run)
+    # what settled before the job index was written (a quick guard), and
+    # verdicts written at once by reuse: the settle hook did not see them
+    try:
+        CM.note_found(store, run)
+    except Exception:        # the run is stored; reading it marks as well
+        import logging
+        logging.getLogger(__name__).warning("corpus run %s: contradiction marks not "
+                                            "written at creation", rid, exc_info=True)
     return run
 
 
@@ -931,91 +949,33 @@ def run_view(run: dict, jobs: dict, guard_models: dict | None = None) -> dict:
             "contradictions": list(broken.values())}
 
 
-def contradiction_text(c: dict | None) -> str:
-    """How an axiom set was found contradictory, in words (one item of a
-    view's ``contradictions``)."""
-    if not c:
-        return "found contradictory"
-    if c.get("found_by") == "axiom check":
-        return f"refuted on their own by the axiom check {c.get('job')}"
-    return f"{c.get('key')} (job {c.get('job')}) came out ContradictoryAxioms"
-
-
 # The mark on the job record of an obligation whose axioms a run found
-# contradictory: the field ``axioms_contradictory`` holds the words, and the
-# same words are added to ``reason`` (after the worker's own reason, with
-# MARK_SEP), which is what `nightjar status JOB`, the API's job record and the
-# console's job page already show.
-MARK_FIELD = "axioms_contradictory"
-MARK_SEP = "; and: "
-
-
-def mark_text(run_id: str, verdict, c: dict | None) -> str:
-    how = contradiction_text(c)
-    if verdict in V.PROVED and verdict != V.CONTRADICTORY_AXIOMS:
-        what = ("the entailment holds, but vacuously: every conjecture follows from "
-                "these axioms")
-    else:
-        what = "every conjecture follows from them, this one too"
-    return (f"AXIOMS CONTRADICTORY (corpus run {run_id}: {how}): {what}; fix the axioms "
-            f"before trusting any verdict on them")
-
-
-def unmarked_reason(rec: dict) -> str:
-    """A job record's reason without the contradiction mark a corpus run
-    added (what a reused copy of the verdict must carry: the new run's axioms
-    are judged afresh)."""
-    reason = rec.get("reason") or ""
-    mark = rec.get(MARK_FIELD) or ""
-    if not mark:
-        return reason
-    if reason == mark:
-        return ""
-    if reason.endswith(MARK_SEP + mark):
-        return reason[:-len(MARK_SEP + mark)]
-    return reason
+# contradictory, and when it is written: service/corpus_marks.py (the words
+# in the field ``axioms_contradictory`` and after the job's own ``reason``).
 
 
 def mark_contradictory_jobs(store, run: dict, view: dict, jobs: dict) -> list:
     """Write the contradiction mark on the job record of every finished
     obligation of ``run`` on a contradictory axiom set that does not carry it
-    yet (the guard jobs aside).  WATCH-guarded per job: a record deleted
-    meanwhile is left deleted, never recreated in part; a second writer finds
-    the mark and stops.  Returns the ids marked."""
-    import redis as _redis
+    yet (the guard jobs aside), as ``view`` found them; each set is noted
+    for the settle hook too (``corpus_marks``).  WATCH-guarded per job: a
+    record deleted meanwhile is left deleted, never recreated in part; a
+    second writer finds the mark and stops.  Returns the ids marked."""
     found = {c["set"]: c for c in view.get("contradictions", [])}
     if not found:
         return []
-    by_key = {ob["key"]: ob for ob in run["obligations"]}
     marked = []
+    for c in found.values():
+        marked += CM.note_contradiction(store, run, c)
+    by_key = {ob["key"]: ob for ob in run["obligations"]}
     for row in view["rows"]:
         rec = jobs.get(row["job"]) or {}
         if (not row.get("axioms_contradictory") or rec.get("state") not in FINAL
-                or rec.get(MARK_FIELD)):
+                or rec.get(MARK_FIELD) or row["job"] in marked):
             continue
         ob = by_key.get(row["key"])
-        text = mark_text(run["id"], row["verdict"], found.get(ob["axiom_set"]) if ob else None)
-        key = store.k_job(row["job"])
-        with store.r.pipeline(transaction=True) as pipe:
-            while True:
-                try:
-                    pipe.watch(key)
-                    state, reason, mark = pipe.hmget(key, ["state", "reason", MARK_FIELD])
-                    state = state.decode() if isinstance(state, bytes) else state
-                    if state not in FINAL or mark:
-                        pipe.unwatch()
-                        break
-                    reason = (reason.decode() if isinstance(reason, bytes) else reason) or ""
-                    pipe.multi()
-                    fields = {MARK_FIELD: text}
-                    if row["verdict"] != V.CONTRADICTORY_AXIOMS:   # that one says it already
-                        fields["reason"] = reason + MARK_SEP + text if reason else text
-                    pipe.hset(key, mapping=fields)
-                    pipe.execute()
-                    marked.append(row["job"])
-                    break
-                except _redis.WatchError:
-                    continue
+        if CM.mark_job(store, row["job"], run["id"], found.get(ob["axiom_set"]) if ob else None):
+            marked.append(row["job"])
     return marked
 
 
@@ -1159,7 +1119,10 @@ def view_of(store, corpus: CorpusStore, run: dict, *, mark: bool = True) -> dict
     """The view of a stored run, reading its jobs (and guard model sizes).
     With ``mark`` (the default), the job records of finished obligations on
     axioms the run found contradictory get the contradiction mark
-    (:func:`mark_contradictory_jobs`): reading a run is what writes it."""
+    (:func:`mark_contradictory_jobs`) when they lack it: the store's settle
+    hook writes it as the jobs settle (``corpus_marks``), reading a run
+    writes what that missed (runs stored before the run's job index, a
+    failed hook)."""
     ids = [o["job"] for o in run["obligations"]] + [g["job"] for g in run.get("guards", [])
                                                     if g.get("job")]
     jobs = {rec["id"]: rec for rec in store.get_jobs(ids)}

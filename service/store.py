@@ -23,6 +23,8 @@ import zlib
 
 import redis
 
+from . import corpus_marks      # the settle hook of corpus runs (Store._settled)
+
 P = "nj:"
 STATES = ("queued", "running", "done", "failed", "cancelled")
 FINAL_STATES = frozenset({"done", "failed", "cancelled"})
@@ -441,7 +443,9 @@ class Store:
             if rec.get("reuse_key") and status not in ("Error", "InputError"):
                 pipe.set(self.k_reuse(rec["owner"], rec["reuse_key"]), jid)
 
-        return self._transition(jid, check, change) is not None
+        rec = self._transition(jid, check, change)
+        self._settled(rec, status)
+        return rec is not None
 
     def fail(self, jid: str, reason: str, attempt: int | None = None) -> bool:
         """running (or queued) -> failed with a reason."""
@@ -460,7 +464,9 @@ class Store:
             pipe.zrem(self.K_QUEUED, jid)
             pipe.delete(self.k_alive(jid))
 
-        return self._transition(jid, check, change) is not None
+        rec = self._transition(jid, check, change)
+        self._settled(rec, None)
+        return rec is not None
 
     def requeue(self, jid: str, reason: str, enqueue) -> bool:
         """A lost running job goes back to the queue (the sweeper's retry)."""
@@ -501,7 +507,26 @@ class Store:
             pipe.delete(self.k_alive(jid))
 
         rec = self._transition(jid, lambda r: r["state"] in ("queued", "running"), change)
+        self._settled(rec, None)
         return rec["state"] if rec else None
+
+    def _settled(self, rec: dict | None, verdict: str | None) -> None:
+        """After a job settled (``rec``: its record before, None when the
+        move was refused): a corpus run's follow-up, the contradiction mark
+        on its job records (``service.corpus_marks.job_settled``).  Only for
+        a corpus run's batch, by its label (``corpus_marks.LABEL_PREFIX``),
+        so other jobs pay nothing.  Never raises: the job's own result is
+        written already, and a mark missed here is written when the run is
+        read."""
+        if rec is None or not str(rec.get("label") or "").startswith(corpus_marks.LABEL_PREFIX):
+            return
+        try:
+            corpus_marks.job_settled(self, rec, verdict)
+        except Exception:
+            import logging
+            logging.getLogger(__name__).warning(
+                "job %s: the corpus run's contradiction mark was not written",
+                rec.get("id"), exc_info=True)
 
     def delete_batch(self, bid: str) -> int:
         """Remove a settled batch, its jobs and their results (the shared

@@ -104,6 +104,51 @@ def test_contradictory_axioms_trip_the_guard(api, workers, tmp_path):
     assert "VACUOUS" in r.stdout
 
 
+def test_status_shows_the_contradiction_without_the_run_being_read(api, workers, tmp_path):
+    """`corpus run` without --wait, the workers settle the batch, and
+    `nightjar status JOB` shows the mark: written by the work horse that
+    settled the consistency check, not by a read of the run."""
+    import time
+    workers.start(1)
+    token = api.store.add_token("dora")
+    (tmp_path / "suite.toml").write_text(textwrap.dedent("""\
+        [suite]
+        name = "lamps-later"
+        description = "axioms that become contradictory"
+        source = "made up for a test"
+        time_limit = 5
+        axioms = ["axioms.nj"]
+        problems = ["goals.nj"]
+        """))
+    (tmp_path / "axioms.nj").write_text("axiom lamp: lit(a)\naxiom road: p(b)\n")
+    (tmp_path / "goals.nj").write_text("conjecture on_road: p(b)\n")
+    r = nightjar(api, token, "corpus", "run", str(tmp_path), "--wait")
+    assert r.returncode == 0, r.stderr + r.stdout
+    # "nothing is lit": contradictory; the Theorem of on_road is reused at once
+    (tmp_path / "axioms.nj").write_text("axiom lamp: lit(a)\naxiom road: p(b)\n"
+                                        "axiom dark: forall x. not lit(x)\n")
+    r = nightjar(api, token, "corpus", "run", str(tmp_path), "--json")
+    assert r.returncode == 0, r.stderr + r.stdout
+    first = json.loads(r.stdout)
+    assert first["reused"] == 1
+    deadline = time.monotonic() + 120          # a bound on the wait, not a timing check
+    while True:
+        r = nightjar(api, token, "status", first["batch"], "--json")
+        assert r.returncode in (0, 3), r.stderr + r.stdout
+        batch = json.loads(r.stdout)
+        if batch["finished"]:
+            break
+        assert time.monotonic() < deadline, batch
+        time.sleep(0.3)
+    (job,) = [j for j in batch["jobs"] if j["conjecture"] == "on_road"]
+    assert job["verdict"] == "Theorem" and job["reused_from"]
+    r = nightjar(api, token, "status", job["id"])
+    assert r.returncode == 0, r.stderr + r.stdout
+    assert f"AXIOMS CONTRADICTORY (corpus run {first['run']}: refuted on their own by the " \
+           f"axiom check" in r.stdout
+    assert "the entailment holds, but vacuously" in r.stdout
+
+
 def test_a_broken_suite_is_refused_before_submission(api, workers, tmp_path):
     token = api.store.add_token("carol")
     (tmp_path / "suite.toml").write_text(textwrap.dedent("""\
