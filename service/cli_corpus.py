@@ -193,6 +193,11 @@ def diff_text(d: dict) -> str:
                    f"{_plural(len(contradictory), 'obligation')} on those axioms say nothing "
                    f"about the conjectures (a Theorem there holds only vacuously); fix the axioms")
     out.extend(axiom_changes_lines(d.get("axiom_changes")))
+    fixed = [x for x in d["gained"] if x.get("fixed")]
+    if fixed:
+        out.append(f"DEFINITE VERDICTS CHANGED: {_plural(len(fixed), 'obligation')} went from "
+                   f"one definite verdict to the opposite one, the one the manifest expects "
+                   f"(the FIXED lines: gained, so they do not fail the gate; review them)")
     expected = {x["key"]: x["expected"] for x in d["unexpected"]}
     shown = set()
     kinds = ("contradictory", "flipped", "lost", "gained", "answered", "unexpected", "slower",
@@ -229,8 +234,15 @@ def diff_text(d: dict) -> str:
     for x in d["removed"]:
         if x.get("settled"):
             say("REMOVED", x, f"(was {x['before']}: settled, and no longer in the suite)")
+    for x in fixed:
+        why = ("a definite verdict changed, to the one the manifest now expects; run "
+               f"{d['a']}'s manifest expected {x['expected_before']}"
+               if x.get("expected_before") == x.get("before") else
+               "a definite verdict changed, to the one the manifest expects")
+        say("FIXED", x, f"{was(x)} -> {x['after']} ({why})")
     for x in d["gained"]:
-        say("gained", x, f"{was(x)} -> {x['after']} (as expected)")
+        if not x.get("fixed"):
+            say("gained", x, f"{was(x)} -> {x['after']} (as expected)")
     for x in d.get("answered", []):
         say("answered", x, f"{was(x)} -> {x['after']} (no expectation in the manifest)")
     for x in d["axioms_changed"]:
@@ -248,7 +260,9 @@ def diff_text(d: dict) -> str:
     n = {k: len(d.get(k, [])) for k in kinds}
     rs = d.get("removed_settled", 0)
     out.append(f"{n['contradictory']} on contradictory axioms, {n['flipped']} flipped, "
-               f"{n['lost']} lost, {n['unexpected']} unexpected, {n['gained']} gained, "
+               f"{n['lost']} lost, {n['unexpected']} unexpected, {n['gained']} gained"
+               + (f" ({len(fixed)} of them fixed: a definite verdict changed)" if fixed else "")
+               + ", "
                f"{n['answered']} answered without an expectation, {n['added']} added, "
                f"{n['removed']} removed ({rs} of them settled), {n['axioms_changed']} "
                f"proof{'s' if n['axioms_changed'] != 1 else ''} using other axioms; "

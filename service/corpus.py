@@ -1000,11 +1000,16 @@ def compare(a: dict, b: dict, *, threshold: float = DEFAULT_TIME_THRESHOLD,
     * added / removed: in b only / in a only.  A removed obligation is
       ``settled`` when a gave it a definite verdict on axioms not known to be
       contradictory: dropping it fails the gate (``removed_settled``).
-    * flipped: proved in a, refuted in b, or the other way round.
+    * flipped: proved in a, refuted in b, or the other way round, when b's
+      verdict is not the one b's manifest expects (or it expects nothing).
     * lost: definite in a, without a definite verdict in b (a job still
       running is not lost).
-    * gained: without a definite verdict in a, and in b the verdict the
-      manifest expects.
+    * gained: b has the verdict b's manifest expects, and a had none (open),
+      or a had the opposite definite one (proved <-> refuted).  The second
+      kind is a definite verdict that changed: its line has ``fixed`` (and
+      ``expected_before``, a's expectation, so that a flip the manifest was
+      edited to expect can be told from a repair).  The CLI, ``--json``
+      and the console all show this list; none has a rule of its own.
     * answered: without a definite verdict in a, definite in b, and the
       manifest expects nothing of it (no way to tell whether the answer is
       the wanted one).  Open in a and now definite but not the expected
@@ -1060,7 +1065,11 @@ def compare(a: dict, b: dict, *, threshold: float = DEFAULT_TIME_THRESHOLD,
             if y["state"] in FINAL:
                 out["lost"].append(line)
         elif kx != ky:
-            out["flipped"].append(line)
+            if y["expected"] is not None and y["verdict"] == y["expected"]:
+                # a definite verdict changed, to the one the manifest expects
+                out["gained"].append(dict(line, fixed=True, expected_before=x["expected"]))
+            else:
+                out["flipped"].append(line)
         else:
             if ky == "proved":
                 ua, ub = set(x["axioms_used"]), set(y["axioms_used"])
@@ -1081,6 +1090,12 @@ def compare(a: dict, b: dict, *, threshold: float = DEFAULT_TIME_THRESHOLD,
     out["regression"] = bool(out["contradictory"] or out["lost"] or out["flipped"]
                              or out["unexpected"] or out["axioms_consistent"]["b"] is False)
     return out
+
+
+def fixed_count(diff: dict | None) -> int:
+    """How many of a comparison's gained obligations had the opposite
+    definite verdict before (``fixed``)."""
+    return sum(1 for x in (diff or {}).get("gained", []) if x.get("fixed"))
 
 
 COUNTED = ("contradictory", "gained", "answered", "lost", "flipped", "unexpected", "added",
@@ -1143,4 +1158,5 @@ __all__ = ["Suite", "SuiteProblem", "SuiteError", "load_suite", "submission", "o
            "statement_hash", "axiom_table", "plan_reuse", "CorpusStore", "create_run",
            "read_submission", "RunRefused", "run_view", "compare", "counts", "view_of",
            "axiom_index", "axiom_changes", "last_two", "manifest_path", "suites_refusal",
-           "mark_contradictory_jobs", "unmarked_reason", "contradiction_text", "MARK_FIELD"]
+           "mark_contradictory_jobs", "unmarked_reason", "contradiction_text", "MARK_FIELD",
+           "fixed_count"]

@@ -954,3 +954,107 @@ def test_corpus_runs_lists_newest_first_across_suites(env, tmp_path, monkeypatch
     assert [x["run"] for x in listed] == [made[2], made[1], made[0]]
     assert main(["corpus", "runs", "--suite", "paths"]) == 0
     assert [ln.split()[0] for ln in capsys.readouterr().out.splitlines()] == [made[2], made[0]]
+
+
+# -- a flip to the expected verdict is gained (QA: fixing a regression) ------
+
+def test_a_flip_to_the_expected_verdict_is_gained_and_marked_fixed():
+    """QA's case: a broken axiom turned eight expected Theorems into
+    CounterSatisfiable (run B); the axiom put back (run C), they are Theorems
+    again.  B -> C is a repair: gained (fixed), no regression.  A flip away
+    from the expectation, or with none, still fails the gate."""
+    exp = {"f#t1": "Theorem", "f#t2": "Theorem", "f#cs": "CounterSatisfiable",
+           "f#away": "Theorem"}
+    b = view("B", [("f#t1", "CounterSatisfiable", 0.1, [], False),
+                   ("f#t2", "CounterSatisfiable", 0.1, [], False),
+                   ("f#cs", "Theorem", 0.1, ["x"], False),
+                   ("f#away", "Theorem", 0.1, ["x"], False),
+                   ("f#free", "Theorem", 0.1, ["x"], False)], expectations=exp)
+    c = view("C", [("f#t1", "Theorem", 0.2, ["x"], False),
+                   ("f#t2", "Theorem", 0.2, ["x"], False),
+                   ("f#cs", "CounterSatisfiable", 0.1, [], False),
+                   ("f#away", "CounterSatisfiable", 0.1, [], False),
+                   ("f#free", "CounterSatisfiable", 0.1, [], False)], expectations=exp)
+    d = C.compare(b, c)
+    assert [(x["key"], x["before"], x["after"], x.get("fixed")) for x in d["gained"]] == [
+        ("f#t1", "CounterSatisfiable", "Theorem", True),
+        ("f#t2", "CounterSatisfiable", "Theorem", True),
+        ("f#cs", "Theorem", "CounterSatisfiable", True)]
+    assert d["gained"][0]["expected_before"] == "Theorem"      # B's manifest: a repair
+    # away from the expectation, and with no expectation: flipped, as before
+    assert [x["key"] for x in d["flipped"]] == ["f#away", "f#free"]
+    assert [x["key"] for x in d["unexpected"]] == ["f#away"]
+    assert listed_once(d) and d["regression"] is True and C.fixed_count(d) == 3
+    # without the two real flips the comparison passes the gate
+    keep = lambda v: dict(v, rows=[r for r in v["rows"] if r["key"] not in ("f#away", "f#free")])
+    d2 = C.compare(keep(b), keep(c))
+    assert d2["regression"] is False and d2["flipped"] == [] and len(d2["gained"]) == 3
+    assert cli_corpus.diff_exit_code(d2) == 0
+    assert C.counts(d2)["gained"] == 3 and C.counts(d2)["flipped"] == 0
+    # the terminal: loud, one line each, the count said twice
+    lines = cli_corpus.diff_text(d2).splitlines()
+    assert any(ln.startswith("DEFINITE VERDICTS CHANGED: 3 obligations") for ln in lines)
+    t1 = [ln for ln in lines if " f#t1 " in ln]
+    assert len(t1) == 1 and t1[0].startswith("FIXED ")
+    assert "CounterSatisfiable -> Theorem (a definite verdict changed, to the one the " \
+           "manifest expects)" in t1[0]
+    assert not any(ln.startswith("FLIPPED") or ln.startswith("gained") for ln in lines)
+    assert "0 flipped" in lines[-1] and "3 gained (3 of them fixed" in lines[-1]
+
+
+def test_a_flip_the_manifest_was_edited_to_expect_says_so():
+    """The manifest's expectation changed with the verdict (the demo's second
+    axiom version): gained, fixed, and the line names what was expected before."""
+    a = view("A", [("f#g", "Theorem", 0.1, ["x"], False)], expectations={"f#g": "Theorem"})
+    b = view("B", [("f#g", "CounterSatisfiable", 0.1, [], False)],
+             expectations={"f#g": "CounterSatisfiable"})
+    d = C.compare(a, b)
+    assert d["flipped"] == [] and not d["regression"]
+    (g,) = d["gained"]
+    assert g["fixed"] and g["expected_before"] == "Theorem"
+    line = next(ln for ln in cli_corpus.diff_text(d).splitlines() if " f#g " in ln)
+    assert line.startswith("FIXED") and "run A's manifest expected Theorem" in line
+    # an open verdict that became the expected one: gained, not fixed
+    a = view("A", [("f#g", "Timeout", 5.0, [], False)], expectations={"f#g": "Theorem"})
+    b = view("B", [("f#g", "Theorem", 0.1, ["x"], False)], expectations={"f#g": "Theorem"})
+    d = C.compare(a, b)
+    assert "fixed" not in d["gained"][0] and C.fixed_count(d) == 0
+    text = cli_corpus.diff_text(d)
+    assert "DEFINITE VERDICTS CHANGED" not in text and "of them fixed" not in text
+    assert next(ln for ln in text.splitlines() if " f#g " in ln).startswith("gained")
+
+
+def test_fixing_a_broken_axiom_passes_the_gate_through_run_and_diff(
+        env, tmp_path, monkeypatch, capsys):
+    """The QA steps on the paths suite: an edited axiom loses an expected
+    Theorem to a countermodel (exit 5); the axiom put back, the rerun and
+    `corpus diff` both exit 0 and list it as gained and FIXED."""
+    root = write_suite(tmp_path)
+    env.run_suite(root)
+    write_suite(tmp_path, {"ax/facts.nj": AXIOMS["ax/facts.nj"].replace("edge(b, c)",
+                                                                        "edge(b, d)")})
+    _, v2 = env.run_suite(root)
+    assert [(x["key"], x["after"]) for x in v2["diff"]["flipped"]] == [
+        ("goals/paths.nj#ac_path", "CounterSatisfiable")]
+    assert cli_corpus.exit_code(v2["summary"]) == 5
+    write_suite(tmp_path)                                  # the original axiom back
+    _, v3 = env.run_suite(root)
+    d = v3["diff"]
+    assert d["flipped"] == [] and d["unexpected"] == [] and not d["regression"]
+    assert [(x["key"], x["before"], x["after"], x["fixed"]) for x in d["gained"]] == [
+        ("goals/paths.nj#ac_path", "CounterSatisfiable", "Theorem", True)]
+    s = v3["summary"]
+    assert s["gained"] == 1 and s["flipped"] == 0 and cli_corpus.exit_code(s) == 0
+    assert cli_corpus.json_summary(v3)["changes"]["gained"][0]["fixed"] is True
+    assert "FIXED       goals/paths.nj#ac_path  CounterSatisfiable -> Theorem" in \
+        cli_corpus.diff_text(d)
+
+    monkeypatch.setattr(cli_corpus, "_client", lambda args: ApiClient(env))
+    from service.cli import main
+    assert main(["corpus", "diff", "--suite", "paths"]) == 0
+    out = capsys.readouterr().out
+    assert "FIXED       goals/paths.nj#ac_path" in out and "1 gained (1 of them fixed" in out
+    assert main(["corpus", "diff", "--suite", "paths", "--json"]) == 0
+    dj = json.loads(capsys.readouterr().out)
+    assert dj["gained"][0]["fixed"] is True and dj["flipped"] == [] and not dj["regression"]
+

@@ -205,3 +205,36 @@ def test_compare_page_says_a_removed_settled_obligation_fails_the_gate(env, tmp_
     assert "Fails the gate" in line and "No regression" not in line
     sec = section(page, "removed-settled")
     assert 'class="count">1<' in sec and "goals/g.nj#to_ashford" in sec
+
+
+def test_compare_page_lists_a_flip_to_the_expected_verdict_as_gained_and_fixed(env, tmp_path):
+    """The rule the CLI uses: a broken route turned the expected Theorem
+    to_ashford into a countermodel; put back, it is gained (fixed), not
+    flipped, and the page says "No regression" with the change called out."""
+    expect = SUITE + '\n[expectations]\n"goals/g.nj#to_ashford" = "Theorem"\n' \
+                     '"goals/g.nj#to_heron" = "Theorem"\n'
+    write(tmp_path, ROUTES_1)
+    (tmp_path / "suite.toml").write_text(expect)
+    r1 = run(env, tmp_path)
+    write_files(tmp_path, {"ax/routes.nj": ROUTES_2})
+    r2 = run(env, tmp_path)
+    write_files(tmp_path, {"ax/routes.nj": ROUTES_1})
+    r3 = run(env, tmp_path)
+    env.sign_in(env.alice)
+    page = env.get(f"/compare?a={r2}&b={r3}")
+    gained = section(page, "gained")
+    assert 'class="count">1<' in gained and "goals/g.nj#to_ashford" in gained
+    assert "fixed: a definite verdict changed" in gained
+    assert 'class="count">0<' in section(page, "flipped")
+    assert "goals/g.nj#to_ashford" not in section(page, "flipped")
+    line = page.split('id="verdict-line"')[1].split("</p>")[0]
+    assert "No regression." in line and "Regression:" not in line
+    assert 'id="fixed-note"' in line and "1 definite verdict changed</strong>" in line
+    # the run page's line with the previous run counts it the same way
+    runpage = env.get(f"/runs/{r3}")
+    assert "1 gained (<strong>1 fixed</strong>: a definite verdict changed), 0 lost, " \
+           "0 flipped" in runpage
+    # the step before (Theorem -> countermodel, Theorem expected) stays a flip
+    page = env.get(f"/compare?a={r1}&b={r2}")
+    assert "goals/g.nj#to_ashford" in section(page, "flipped")
+    assert 'id="fixed-note"' not in page and "<strong>Regression:</strong>" in page

@@ -1240,9 +1240,10 @@ def compare():
     jobs_b = {row["key"]: row for row in vb["rows"]}
     reused = [row for row in vb["rows"] if row["reused"]]
     removed_settled = [x for x in diff["removed"] if x.get("settled")]
+    fixed = [x for x in diff["gained"] if x.get("fixed")]
     return render_template("compare.html", diff=diff, a=va["summary"], b=vb["summary"],
                            ja=jobs_a, jb=jobs_b, reused=reused, refused=None,
-                           removed_settled=removed_settled,
+                           removed_settled=removed_settled, fixed=fixed,
                            contradictions_b=vb["contradictions"])
 
 
