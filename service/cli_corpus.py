@@ -10,8 +10,9 @@ with its file:line:col, before anything is sent), submits it as one run,
 and with ``--wait`` follows it with a progress bar and prints the report.
 ``diff`` compares two runs (default: the suite's last two; runs of two
 different suites only with ``--across-suites``).  Exit codes (DEVELOPERS.md):
-0 fine; 1 input error; 2 usage (also: runs of two suites without
-``--across-suites``); 3 some obligation without a definite verdict; 4 no
+0 fine (``diff`` of a suite with one run: nothing to compare yet); 1 input
+error; 2 usage (also: runs of two suites without ``--across-suites``, a
+suite with no run); 3 some obligation without a definite verdict; 4 no
 service; 5 something lost, flipped, unexpected, or on contradictory axioms;
 6 none of that, but obligations settled in the base run were removed from the
 suite (``--allow-removed`` accepts that).
@@ -435,11 +436,17 @@ def cmd_diff(args) -> int:
     try:
         d = client.get("/api/corpus/diff", **query)
     except ApiError as e:
-        if e.status == 404 or e.code == "different_suites":
+        if e.code == "different_suites":
+            print(f"nightjar: {suites_refusal_text(e.error, args.runs)}", file=sys.stderr)
+            print("nightjar: to compare them anyway: nightjar corpus diff "
+                  f"{args.runs[0]} {args.runs[1]} --across-suites", file=sys.stderr)
+            return EXIT_USAGE
+        if e.status == 404:
+            if not args.runs:
+                only = _only_run(client, query["suite"])
+                if only is not None:     # a first run: nothing to compare, not a failure
+                    return _nothing_to_compare(query["suite"], only, args.json)
             print(f"nightjar: {e}", file=sys.stderr)
-            if e.code == "different_suites":
-                print("nightjar: to compare them anyway: nightjar corpus diff "
-                      f"{args.runs[0]} {args.runs[1]} --across-suites", file=sys.stderr)
             return EXIT_USAGE
         raise
     if args.json:
@@ -450,6 +457,41 @@ def cmd_diff(args) -> int:
     if code == EXIT_REMOVED:
         print(removed_note(d), file=sys.stderr)
     return code
+
+
+def suites_refusal_text(error: dict, runs) -> str:
+    """The API's refusal of runs of two suites, without its hint for API
+    callers (``across_suites=1``): the CLI gives its own (--across-suites)."""
+    suites = error.get("suites") or {}
+    if runs and suites.get("a") is not None and suites.get("b") is not None:
+        from .corpus import suites_refusal
+        return suites_refusal({"id": runs[0], "suite": suites["a"]},
+                              {"id": runs[1], "suite": suites["b"]})
+    # an answer without the suites (an older service): its message, cut before the hint
+    return (error.get("message") or "runs of different suites are not compared").split(
+        "; to compare them anyway")[0]
+
+
+def _only_run(client, suite: str):
+    """The one run of ``suite`` when it has exactly one, else None."""
+    from urllib.parse import quote
+    from .client import ApiError
+    try:
+        runs = client.get(f"/api/corpus/suites/{quote(suite, safe='')}/runs")["runs"]
+    except ApiError:
+        return None
+    return runs[0]["run"] if len(runs) == 1 else None
+
+
+def _nothing_to_compare(suite: str, run: str, as_json: bool) -> int:
+    note = (f"suite {suite} has one run ({run}): nothing to compare yet; the next run of "
+            f"the suite will be compared with it")
+    if as_json:
+        print(json.dumps({"suite": suite, "runs": 1, "b": run, "a": None, "compared": False,
+                          "regression": False, "note": note}))
+    else:
+        print(note)
+    return EXIT_OK
 
 
 @_guarded
@@ -509,13 +551,17 @@ def register(sub) -> None:
 
     d = csub.add_parser("diff", help="compare two runs of a suite",
                         description="Each obligation once: on contradictory axioms, flipped "
-                        "(Theorem <-> CounterSatisfiable), lost (definite -> none), gained "
-                        "(none -> the expected verdict), answered (none -> definite, no "
-                        "expectation), added, removed; also unexpected (against the "
-                        "manifest), time changes and changes in the axioms used. Default: "
-                        "the last two runs of the suite. Exit 5 when anything is on "
-                        "contradictory axioms, lost, flipped or unexpected; else 6 when an "
-                        "obligation settled in the first run was removed; else 0.")
+                        "(Theorem <-> CounterSatisfiable, the new verdict not the one the "
+                        "manifest expects), lost (definite -> none), gained (none, or the "
+                        "opposite definite verdict, -> the verdict the manifest expects; a "
+                        "definite verdict that changed is listed as FIXED), answered (none "
+                        "-> definite, no expectation), added, removed; also unexpected "
+                        "(against the manifest), time changes and changes in the axioms "
+                        "used. Default: the last two runs of the suite. Exit 5 when "
+                        "anything is on contradictory axioms, lost, flipped or unexpected; "
+                        "else 6 when an obligation settled in the first run was removed; "
+                        "else 0 (also when the suite has only one run: nothing to compare "
+                        "yet).")
     d.add_argument("runs", nargs="*", metavar="RUN", help="RUN_A RUN_B (both, or neither)")
     d.add_argument("--suite", metavar="NAME", help="compare this suite's last two runs")
     d.add_argument("--json", action="store_true", help="one JSON object")

@@ -1058,3 +1058,58 @@ def test_fixing_a_broken_axiom_passes_the_gate_through_run_and_diff(
     dj = json.loads(capsys.readouterr().out)
     assert dj["gained"][0]["fixed"] is True and dj["flipped"] == [] and not dj["regression"]
 
+
+# -- a suite with one run: nothing to compare yet -----------------------------
+
+def test_diff_of_a_suite_with_one_run_is_not_a_failure(env, tmp_path, monkeypatch, capsys):
+    monkeypatch.setattr(cli_corpus, "_client", lambda args: RaisingApiClient(env))
+    from service.cli import main
+    # no run at all: the suite is unknown, a usage error as before
+    assert main(["corpus", "diff", "--suite", "paths"]) == 2
+    assert "has 0 runs" in capsys.readouterr().err
+    _, v = env.run_suite(write_suite(tmp_path))
+    rid = v["summary"]["run"]
+    for argv in (["--suite", "paths"], []):            # named, or the only suite
+        assert main(["corpus", "diff", *argv]) == 0
+        out = capsys.readouterr()
+        assert out.out.strip() == (f"suite paths has one run ({rid}): nothing to compare "
+                                   f"yet; the next run of the suite will be compared with it")
+        assert out.err == ""
+    assert main(["corpus", "diff", "--suite", "paths", "--json"]) == 0
+    d = json.loads(capsys.readouterr().out)
+    assert d["compared"] is False and d["regression"] is False and d["b"] == rid
+    # two runs named explicitly: one of them missing is still an error
+    assert main(["corpus", "diff", rid, "rnosuch"]) == 2
+    assert "no run rnosuch" in capsys.readouterr().err
+    # the API itself still says that a comparison needs two
+    resp = env.c.get("/api/corpus/diff?suite=paths", headers=env.h)
+    assert resp.status_code == 404 and "needs two" in resp.get_json()["error"]["message"]
+    env.run_suite(tmp_path)
+    assert main(["corpus", "diff", "--suite", "paths"]) == 0
+    assert "no changes" in capsys.readouterr().out
+
+
+def test_the_cli_refusal_of_two_suites_gives_only_the_cli_way(env, tmp_path, monkeypatch,
+                                                              capsys):
+    write_suite(tmp_path / "one")
+    write_suite(tmp_path / "two", {"suite.toml": MANIFEST.replace('name = "paths"',
+                                                                  'name = "lanes"')})
+    ra = env.run_suite(tmp_path / "one")[1]["summary"]["run"]
+    rb = env.run_suite(tmp_path / "two")[1]["summary"]["run"]
+    monkeypatch.setattr(cli_corpus, "_client", lambda args: RaisingApiClient(env))
+    from service.cli import main
+    assert main(["corpus", "diff", ra, rb]) == 2
+    err = capsys.readouterr().err
+    assert "across_suites" not in err                     # the API's parameter
+    assert err.splitlines() == [
+        f"nightjar: run {ra} is of suite 'paths' and run {rb} of suite 'lanes': runs of "
+        f"different suites are not compared, since their obligations are matched by file "
+        f"and conjecture name only",
+        f"nightjar: to compare them anyway: nightjar corpus diff {ra} {rb} --across-suites"]
+    # the API keeps its own hint
+    msg = env.c.get(f"/api/corpus/diff?a={ra}&b={rb}", headers=env.h).get_json()["error"]
+    assert msg["message"].endswith("ask with across_suites=1")
+    # an answer without the suites field (an older service): cut before the hint
+    assert cli_corpus.suites_refusal_text({"message": "x differs; to compare them anyway, "
+                                                      "ask with across_suites=1"}, None) == \
+        "x differs"
