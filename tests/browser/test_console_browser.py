@@ -210,3 +210,76 @@ problems = ["conj/*.nj"]
     page.locator("#gained").get_by_role("link", name="after").click()
     page.wait_for_selector("#verdict >> text=Theorem")
     assert not page.js_errors, page.js_errors
+
+
+# The suite page at the width the browser tests use (1280 px): every column
+# of the runs table, the last one ("with the run before") included, is on the
+# screen without scrolling sideways, also with a long manifest path (a suite
+# folder outside the working folder is stored by its absolute path) and a
+# "full" tag.  QA measured the table at 1,327 px there, the Compare column cut off.
+LAYOUT_SUITE = """[suite]
+name = "qa-ferry-layout"
+description = "one axiom file, three conjectures"
+source = "written for this test"
+time_limit = 5
+axioms = ["axioms/*.nj"]
+problems = ["conjectures/*.nj"]
+
+[expectations]
+"conjectures/landings.nj#g1" = "Theorem"
+"conjectures/landings.nj#g2" = "CounterSatisfiable"
+"""
+
+
+def fits(page, selector):
+    """The widths that matter, measured in the page: the viewport, the
+    document's scroll width and the table's right edge."""
+    return page.evaluate("""sel => {
+        const t = document.querySelector(sel).getBoundingClientRect();
+        const last = [...document.querySelectorAll(sel + ' tr > :last-child')]
+            .map(c => c.getBoundingClientRect().right);
+        return {viewport: window.innerWidth, scroll: document.documentElement.scrollWidth,
+                table_width: t.width, table_right: t.right, last_right: Math.max(...last)};
+    }""", selector)
+
+
+def test_suite_page_fits_1280_pixels(api, workers, page, shot, tmp_path):
+    token = api.store.add_token("alice")
+    workers.start(1)
+    root = tmp_path / "a-suite-folder-with-a-rather-long-name" / "qa-ferry-layout"
+    for d in ("axioms", "conjectures"):
+        (root / d).mkdir(parents=True)
+    (root / "axioms" / "a.nj").write_text("axiom a1: forall x. p(x) implies q(x)\naxiom a2: p(c)\n")
+    (root / "conjectures" / "landings.nj").write_text(
+        "conjecture g1: q(c)\nconjecture g2: q(d)\nconjecture g3: p(c)\n")
+    (root / "suite.toml").write_text(LAYOUT_SUITE)
+    c = api.client(token)
+    runs = []
+    for full in (False, False, True):
+        body = C.submission(C.load_suite(str(root / "suite.toml")), full=full)
+        run = c.post("/api/corpus/runs", body)["run"]
+        wait_until(lambda: c.get(f"/api/corpus/runs/{run}")["summary"]["finished"],
+                   timeout=90, what=f"run {len(runs) + 1}")
+        runs.append(run)
+    path = c.get("/api/corpus/suites/qa-ferry-layout/runs")["runs"][0]["manifest_path"]
+    assert len(path) > 40, path          # the long case: an absolute path
+
+    sign_in(page, api.url, token)
+    page.goto(api.url + "/suites/qa-ferry-layout")
+    assert page.locator("#runs tbody tr").count() == 3
+    m = fits(page, "#runs")
+    shot(page, "suite-1280")
+    assert m["viewport"] == 1280
+    assert m["scroll"] <= m["viewport"], m            # no sideways scrolling
+    assert m["table_right"] <= m["viewport"], m
+    assert m["last_right"] <= m["viewport"], m        # the Compare column is on screen
+    # each compare link is on screen and goes to the comparison with the run before
+    links = page.locator("#runs a.compare")
+    assert links.count() == 2
+    for i in range(2):
+        box = links.nth(i).bounding_box()
+        assert box["x"] + box["width"] <= 1280, box
+    links.first.click()
+    page.wait_for_selector("#verdict-line")
+    assert f"/compare?a={runs[1]}&b={runs[2]}" in page.url
+    assert not page.js_errors, page.js_errors
