@@ -154,6 +154,19 @@ def check_problem(bundle: dict) -> list:
     return obligations
 
 
+def _refuse_twice(names: list, where: str, what: str) -> None:
+    """BadRequest naming the first file name given twice in ``where``: two
+    conjecture files of one name would be one file of the shared bundle,
+    and their jobs could not be told apart.  (Each of ``problems`` is a
+    bundle of its own: the same problem twice is two runs of it.)"""
+    first: dict = {}
+    for i, n in enumerate(names):
+        if n in first:
+            raise BadRequest("bad_request", f"two {what} named {n!r} ({where}[{first[n]}] "
+                             f"and {where}[{i}]); each needs a name of its own")
+        first[n] = i
+
+
 def _number(body, key, default, lo=None, hi=None, what=""):
     """A number option of the body; a refusal names it in ``field``."""
     v = body.get(key, default)
@@ -183,12 +196,40 @@ def _reuse_key(bundle, conjecture, time_limit, settings) -> str:
     return hashlib.sha256(canon.encode()).hexdigest()
 
 
+def _json_body():
+    """The request's JSON body, or BadRequest saying why there is none: an
+    empty body, a body not sent as JSON, not UTF-8, or JSON that does not
+    parse (with the parser's line and column, also as ``line``, ``col``).
+    (The limits hook has already refused bodies nested too deeply.)"""
+    body = request.get_json(silent=True)
+    if body is not None:
+        return body
+    raw = request.get_data(cache=True)
+    if not raw.strip():
+        raise BadRequest("bad_request", "the body is empty; send a JSON object")
+    if not request.is_json:
+        raise BadRequest("bad_request", "the body must be JSON, sent with Content-Type: "
+                         f"application/json (it came as {request.mimetype or 'no type'})")
+    try:
+        text = raw.decode("utf-8")
+    except UnicodeDecodeError as e:
+        raise BadRequest("bad_request", f"the body is not UTF-8 (byte {e.start + 1})")
+    try:
+        json.loads(text)
+    except json.JSONDecodeError as e:
+        raise BadRequest("bad_request", f"the body could not be parsed as JSON: {e.msg} "
+                         f"at line {e.lineno}, column {e.colno}", line=e.lineno, col=e.colno)
+    except (ValueError, RecursionError) as e:
+        raise BadRequest("bad_request", f"the body could not be parsed as JSON: {e}")
+    return None       # the JSON null: accept_submission says it must be an object
+
+
 @bp.post("/submissions")
 @require_owner
 def submit():
     from worker.syntax.errors import InputError
 
-    body = request.get_json(silent=True)
+    body = _json_body()
     try:
         out = accept_submission(svc(), g.owner, body)
     except InputError as e:
@@ -226,6 +267,12 @@ def accept_submission(s, owner: str, body) -> dict:
     settings = {"strategy": strategy} if strategy else {}
 
     # Build the bundles (one per problem file) ...
+    forms = [f for f, keys in (("'problem'", ("problem",)), ("'problems'", ("problems",)),
+                               ("'axioms' with 'conjectures'", ("axioms", "conjectures")))
+             if any(k in body for k in keys)]
+    if len(forms) > 1:
+        raise BadRequest("bad_request", "give exactly one of 'problem', 'problems', or "
+                         "'axioms' with 'conjectures'; the body has " + " and ".join(forms))
     if "problem" in body:
         bundles = [_bundle(body["problem"], "problem")]
         queue_name = QUEUE_INTERACTIVE
@@ -251,6 +298,8 @@ def accept_submission(s, owner: str, body) -> dict:
             if not (isinstance(c, dict) and isinstance(c.get("name"), str)
                     and isinstance(c.get("text"), str) and c["name"]):
                 raise BadRequest("bad_request", f"conjectures[{i}] must have a name and a text")
+        _refuse_twice([c["name"] for c in items], "conjectures", "conjecture files are")
+        for c in items:
             bundles.append(_with_axioms(axioms, c["name"], c["text"]))
         refuse_axiom_conjectures(axioms)
         queue_name = QUEUE_BATCH

@@ -5,7 +5,9 @@ The client commands find the service by themselves: ``--server URL`` (or
 ``NIGHTJAR_SERVER``) and ``NIGHTJAR_TOKEN`` when given, else the address and
 token the embedded service wrote into the home folder (``NIGHTJAR_HOME``,
 default ``~/.nightjar``).  When nothing answers they say so in one line with
-the command that starts a service, and exit 4.
+the command that starts a service, and exit 4; the service's rate limit is
+waited out by the client (``client.Client.request``), and a refusal that
+outlasts its patience is also one line and exit 4, never a usage error.
 """
 
 from __future__ import annotations
@@ -25,6 +27,7 @@ EXIT_OK, EXIT_INPUT, EXIT_USAGE, EXIT_UNDECIDED, EXIT_NO_SERVICE = 0, 1, 2, 3, 4
 
 DEFINITE = {"Theorem", "ContradictoryAxioms", "CounterSatisfiable", "Unsatisfiable",
             "Satisfiable"}
+MODEL_VERDICTS = {"CounterSatisfiable", "Satisfiable"}     # worker.verdict.REFUTED
 REPO = Path(__file__).resolve().parent.parent
 DEMO_SUITE = REPO / "corpus" / "demo" / "suite.toml"
 
@@ -64,6 +67,8 @@ def _api_error(e) -> int:
         print(refused, file=sys.stderr)
         return EXIT_USAGE
     print(f"nightjar: {e}", file=sys.stderr)
+    if e.status in (429, 503):          # the service refuses for now: not the user's fault
+        return EXIT_NO_SERVICE
     return EXIT_INPUT if e.status in (400, 413) else (EXIT_USAGE if e.status != 404 else 1)
 
 
@@ -438,20 +443,31 @@ def cmd_status(args) -> int:
     return EXIT_OK
 
 
-def _proof_or_model(client, jid):
+def _proof_or_model(client, jid, verdict=None):
     """What the API holds for one job: ("proof", proof answer), ("model",
     model answer), or ("none", proof answer with a "reason" when the API
-    said why there is no model)."""
+    said why there is no model).  With the job's ``verdict`` known, the
+    answer it has is asked for first (a model for CounterSatisfiable and
+    Satisfiable), so that a job costs one request, not two."""
     from .client import ApiError
+    if verdict in MODEL_VERDICTS:
+        try:
+            m = client.model(jid)
+        except ApiError as e:
+            if e.code != "no_model":
+                raise
+            # settled without a model (saturation): nothing to show, say why
+            return "none", dict(client.proof(jid), reason=str(e))
+        if m.get("model"):
+            return "model", m
     p = client.proof(jid)
-    if p.get("proof"):
-        return "proof", p
+    if p.get("proof") or verdict in MODEL_VERDICTS:
+        return ("proof" if p.get("proof") else "none"), p
     try:
         m = client.model(jid)
     except ApiError as e:
         if e.code != "no_model":
             raise
-        # settled without a model (saturation): nothing to show, say why
         return "none", dict(p, reason=str(e))
     if m.get("model"):
         return "model", m
@@ -474,9 +490,10 @@ def _print_proof(kind, answer, cert=None):
 def _batch_proofs(client, bid, as_json) -> int:
     """Every job's proof or model, in submission order, the jobs paged
     through the API."""
+    from .cli_prove import obligation_text
     code, first = EXIT_OK, True
     for j in client.jobs(bid):
-        kind, answer = _proof_or_model(client, j["id"])
+        kind, answer = _proof_or_model(client, j["id"], j.get("verdict"))
         if kind == "none":
             code = EXIT_UNDECIDED
         if as_json:
@@ -487,7 +504,7 @@ def _batch_proofs(client, bid, as_json) -> int:
         if not first:
             print()
         first = False
-        print(f"=== {j['file']}  conjecture {j['conjecture'] or '-'}  {what}  "
+        print(f"=== {j['file']}  {obligation_text(j['conjecture'])}  {what}  "
               f"(job {j['id']})")
         if kind == "none":
             print(f"no proof or model ({what})")
@@ -507,7 +524,8 @@ def cmd_proof(args) -> int:
         if args.json:
             print(json.dumps(dict(answer, certificate=j.get("certificate"))))
         else:
-            print(f"# {j['file']}: conjecture {j['conjecture'] or '-'}: "
+            from .cli_prove import obligation_text
+            print(f"# {j['file']}: {obligation_text(j['conjecture'])}: "
                   f"{j.get('verdict') or j['state']} (job {j['id']})")
             _print_proof(kind, answer, j.get("certificate"))
         return EXIT_OK

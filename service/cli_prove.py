@@ -73,8 +73,7 @@ def _format_model(model) -> str:
 
 def _human(path: str, res: dict) -> str:
     from worker.saturation.proof import format_proof
-    name = res.get("conjecture")
-    what = f"conjecture {name}" if name else "satisfiability of the file"
+    what = obligation_text(res.get("conjecture"))
     figs = res.get("figures") or {}
     lines = [f"{path}: {what}: {res['status']}  ({res['seconds']:.2f} s)"]
     if res["status"] == V.CONTRADICTORY_AXIOMS:
@@ -97,6 +96,13 @@ def _human(path: str, res: dict) -> str:
         lines.append(f"  why: {res['reason']}")
     lines.append(f"  certificate: {certificate_text(res.get('certificate'))}")
     return "\n".join(lines)
+
+
+def obligation_text(conjecture: str | None) -> str:
+    """What an obligation is, in words: its conjecture, or for a file
+    without one the file's satisfiability.  prove's verdict lines and
+    proof's headings say it alike."""
+    return f"conjecture {conjecture}" if conjecture else "satisfiability of the file"
 
 
 def model_word(verdict: str | None) -> str:

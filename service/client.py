@@ -10,13 +10,24 @@ Includes are resolved here, on the user's side: each file is sent with every
 file it includes (``worker.syntax.collect_bundle``).  Every failure to reach
 the service raises :class:`ServiceUnavailable`; an error answer raises
 :class:`ApiError` with the server's JSON error.
+
+A 429 (the service's rate limit per token) is waited out and the request
+sent again, after as long as its ``Retry-After`` asks (the error's finer
+``retry_after`` when it has one), at least ``RATE_WAIT_FLOOR``.  A wait
+asked of more than ``RATE_WAIT_CAP`` seconds, or one that would take a
+request's waiting past ``RATE_WAIT_TOTAL`` seconds, is not waited: the
+request raises :class:`RateLimited` (a :class:`ServiceUnavailable`: the
+service is there but will not answer for now).  Waiting is told on stderr
+once, when this client's waits come to ``RATE_WAIT_NOTICE`` seconds.
 """
 
 from __future__ import annotations
 
 import json
+import math
 import os
 import posixpath
+import sys
 import time
 import urllib.error
 import urllib.parse
@@ -26,6 +37,11 @@ from pathlib import Path
 from .config import home_dir
 
 START_HINT = "start one with: nightjar serve"
+
+RATE_WAIT_FLOOR = 0.05     # s: the shortest wait before sending a refused request again
+RATE_WAIT_CAP = 30.0       # s: a longer wait asked for is not waited (RateLimited)
+RATE_WAIT_TOTAL = 120.0    # s: the most one request waits in all before giving up
+RATE_WAIT_NOTICE = 5.0     # s: a client that has waited this long in all says so (once)
 
 
 class ServiceUnavailable(Exception):
@@ -39,9 +55,10 @@ class ServiceUnavailable(Exception):
 
 
 class ApiError(Exception):
-    def __init__(self, status: int, error: dict):
+    def __init__(self, status: int, error: dict, retry_after: float | None = None):
         self.status = status
         self.error = error or {}
+        self.retry_after = retry_after      # seconds, from a 429's Retry-After
         super().__init__(self.error.get("text") or self.error.get("message")
                          or f"HTTP {status}")
 
@@ -50,11 +67,63 @@ class ApiError(Exception):
         return self.error.get("code", "")
 
 
+class RateLimited(ServiceUnavailable):
+    """The service's rate limit still refused a request after the client had
+    waited as long as it will (``RATE_WAIT_TOTAL``): a temporary failure,
+    not a fault of the request.  ``status`` (429) and ``error`` as ApiError's."""
+
+    def __init__(self, url: str | None, error: dict, waited: float):
+        self.url, self.status, self.error, self.waited = url, 429, error or {}, waited
+        message = self.error.get("message") or "too many requests for this token"
+        waits = (f"after waiting {waited:.1f} s for it" if waited > 0
+                 else "a longer wait than the client makes")
+        Exception.__init__(self, f"{message} (the service's rate limit, {waits}; "
+                                 f"giving up)")
+
+    @property
+    def code(self) -> str:
+        return self.error.get("code", "rate_limited")
+
+
+def retry_after_seconds(header: str | None, error: dict | None = None) -> float | None:
+    """How long a 429 asks to wait: the error's ``retry_after`` (seconds,
+    finer than the header) when it is a number, else the ``Retry-After``
+    header (seconds, or an HTTP date); None when neither says."""
+    v = (error or {}).get("retry_after")
+    if isinstance(v, (int, float)) and not isinstance(v, bool) and math.isfinite(v):
+        return max(0.0, float(v))
+    if not header:
+        return None
+    header = header.strip()
+    try:
+        return max(0.0, float(header))
+    except ValueError:
+        pass
+    from email.utils import parsedate_to_datetime
+    try:
+        when = parsedate_to_datetime(header)
+    except (TypeError, ValueError, IndexError):
+        return None
+    if when is None:
+        return None
+    return max(0.0, when.timestamp() - time.time())
+
+
+def _tell_stderr(text: str) -> None:
+    print(text, file=sys.stderr, flush=True)
+
+
 class Client:
-    def __init__(self, url: str, token: str | None = None, timeout: float = 60.0):
+    def __init__(self, url: str, token: str | None = None, timeout: float = 60.0, *,
+                 rate_wait_total: float = RATE_WAIT_TOTAL, notice=_tell_stderr):
         self.url = url.rstrip("/")
         self.token = token
         self.timeout = timeout
+        self.rate_wait_total = rate_wait_total   # see RATE_WAIT_TOTAL
+        self.notice = notice                     # told once, when waiting gets long
+        self.rate_waited = 0.0                   # seconds this client slept on 429s
+        self.rate_refusals = 0                   # 429s it waited out
+        self._noticed = False
 
     # -- finding the service ---------------------------------------------
     @classmethod
@@ -75,6 +144,36 @@ class Client:
 
     # -- plumbing ----------------------------------------------------------
     def request(self, method: str, path: str, body=None, query: dict | None = None):
+        """One API call; a 429 is waited out and sent again (module
+        docstring).  Every request the API refuses with 429 was refused
+        before anything was done, so sending it again is safe."""
+        waited = 0.0
+        while True:
+            try:
+                return self.exchange(method, path, body, query)
+            except ApiError as e:
+                if e.status != 429:
+                    raise
+                wait = max(e.retry_after if e.retry_after is not None else 1.0,
+                           RATE_WAIT_FLOOR)
+                if wait > RATE_WAIT_CAP or waited + wait > self.rate_wait_total:
+                    raise RateLimited(self.url, e.error, waited) from None
+                self._rate_wait(wait, e)
+                waited += wait
+
+    def _rate_wait(self, seconds: float, e: ApiError) -> None:
+        self.rate_refusals += 1
+        if not self._noticed and self.notice and (
+                self.rate_waited + seconds >= RATE_WAIT_NOTICE):
+            self._noticed = True
+            self.notice(f"nightjar: the service limits this token's requests "
+                        f"({e.error.get('message') or 'HTTP 429'}); waiting as it "
+                        f"asks ({self.rate_waited + seconds:.1f} s so far)")
+        time.sleep(seconds)
+        self.rate_waited += seconds
+
+    def exchange(self, method: str, path: str, body=None, query: dict | None = None):
+        """One HTTP request and its answer, without waiting out a 429."""
         url = self.url + path
         if query:
             q = {k: v for k, v in query.items() if v is not None}
@@ -99,7 +198,9 @@ class Client:
                 err = {"message": raw.decode(errors="replace")[:300] or e.reason}
             if e.code == 503 and err.get("code") == "storage_unavailable":
                 raise ServiceUnavailable(self.url, err.get("message", "")) from None
-            raise ApiError(e.code, err) from None
+            wait = (retry_after_seconds(e.headers.get("Retry-After"), err)
+                    if e.code == 429 else None)
+            raise ApiError(e.code, err, wait) from None
         except (urllib.error.URLError, ConnectionError, TimeoutError, OSError) as e:
             why = getattr(e, "reason", None) or e
             raise ServiceUnavailable(self.url, str(why)) from None
@@ -300,6 +401,7 @@ def submission_body(paths: list, *, axioms: list | None = None,
             extra = {k: v for k, v in b["files"].items() if k != b["main"]}
             files.update(extra)        # a conjecture file's own includes go along
             conj.append({"name": b["main"], "text": b["files"][b["main"]]})
+        _refuse_one_name(paths, [c["name"] for c in conj])
         ax = {"main": mains if len(mains) > 1 else mains[0], "files": files}
         if language:
             ax["language"] = language
@@ -307,3 +409,20 @@ def submission_body(paths: list, *, axioms: list | None = None,
     if len(paths) == 1:
         return {"problem": bundle_of(paths[0], root, names, **opts)}
     return {"problems": [bundle_of(p, root, names, **opts) for p in paths]}
+
+
+def _refuse_one_name(paths: list, mains: list) -> None:
+    """An InputError when two conjecture files would be sent under one name
+    (the same file given twice, or two files of one base name outside the
+    current folder): the service refuses that, in bundle names; this says it
+    with the files as given."""
+    from worker.syntax.errors import InputError
+    first: dict = {}
+    for p, m in zip(paths, mains):
+        if m in first:
+            q = first[m]
+            if os.path.abspath(q) == os.path.abspath(p):
+                raise InputError(f"cannot submit '{p}' twice in one submission")
+            raise InputError(f"cannot submit '{q}' and '{p}' together: both would be "
+                             f"sent as '{m}' (submit them from a folder that holds both)")
+        first[m] = p

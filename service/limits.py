@@ -177,7 +177,27 @@ def rate_refusal(key: str) -> tuple[float, str] | None:
     if wait <= 0:
         return None
     return wait, (f"too many requests for this token: at most {lim.rate.rate:g} a "
-                  f"second (bursts of {lim.rate.burst:g}); try again in {wait:.1f} s")
+                  f"second (bursts of {lim.rate.burst:g}); try again in "
+                  f"{wait_text(wait)} s")
+
+
+def _round_up(seconds: float, step: float) -> float:
+    """``seconds`` rounded up to a multiple of ``step``, at least one step:
+    a wait is never told shorter than it is (a wait of 0.03 s printed with
+    one decimal was "try again in 0.0 s")."""
+    n = max(1, math.ceil(seconds / step - 1e-9))
+    return round(n * step, 6)
+
+
+def wait_text(wait: float) -> str:
+    """The wait in a refusal's message: tenths of a second, rounded up."""
+    return f"{_round_up(wait, 0.1):.1f}"
+
+
+def retry_after_value(wait: float) -> float:
+    """The 429 error's ``retry_after`` field: hundredths, rounded up (the
+    client waits this rather than the header's whole seconds)."""
+    return _round_up(wait, 0.01)
 
 
 def retry_after_header(wait: float) -> str:
@@ -201,7 +221,7 @@ def _limits():
         over = rate_refusal(token_key(tok))
         if over is not None:
             wait, message = over
-            resp = _error(429, "rate_limited", message, retry_after=round(wait, 2))
+            resp = _error(429, "rate_limited", message, retry_after=retry_after_value(wait))
             resp.headers["Retry-After"] = retry_after_header(wait)
             return resp
     if len(request.args) > MAX_QUERY_PARAMS:

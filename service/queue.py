@@ -273,9 +273,28 @@ class NightjarWorker(Worker):
         _stop.set()
         super().request_stop(signum, frame)
 
+    config: Config | None = None      # set by run_worker (the hand-back's queue options)
+    _attempt = None                   # the Nightjar job id of the horse's attempt
+
+    def execute_job(self, job, queue):
+        self._attempt = (job.args[0] if job.func_name == "worker.jobs.attempt" and job.args
+                         else None)
+        try:
+            return super().execute_job(job, queue)
+        finally:
+            self._attempt = None
+
     def request_force_stop(self, signum, frame):
         _stop.set()
-        super().request_force_stop(signum, frame)
+        jid = self._attempt if self.horse_pid else None
+        try:
+            super().request_force_stop(signum, frame)
+        except SystemExit:
+            # RQ killed the horse (a cold stop): the attempt did not fail and
+            # was not lost; hand the job back saying so
+            if jid is not None:
+                hand_back(jid, self.name, self.config or Config.from_env())
+            raise
 
     def _install_signal_handlers(self):
         super()._install_signal_handlers()
@@ -289,6 +308,43 @@ class NightjarWorker(Worker):
                 Store(self.connection).touch_alive(job.args[0], self.name, self.alive_ttl)
         except Exception as e:      # a missed beat is not worth a crash
             log.info("heartbeat: %s", e)
+
+
+# why a job was handed back by a worker told to stop at once (a cold stop:
+# SIGTERM or Ctrl-C twice, as `nightjar serve` does when it stops); the
+# sweeper's "stopped answering" stays for workers that were really lost
+STOPPED_REASON = "attempt {n} was cut short: its worker {who} was shut down; retried"
+
+
+def hand_back(jid: str, worker: str, config: Config, r: redis.Redis | None = None) -> bool:
+    """Queue a job again whose attempt this worker's stop cut short, with that
+    reason (the sweeper would otherwise retry it later as lost, "stopped
+    answering").  Only while the record still says this worker runs it.  By
+    default on a fresh connection to ``NIGHTJAR_REDIS_URL`` (this runs in a
+    signal handler, perhaps while the worker's own connection is in use); a
+    Redis that does not answer within a few seconds leaves the job to the
+    sweeper."""
+    try:
+        if r is None:
+            url = os.environ.get("NIGHTJAR_REDIS_URL")
+            if not url:
+                return False
+            r = redis.Redis.from_url(url, socket_connect_timeout=3, socket_timeout=3,
+                                     **_HANDSHAKE)
+        store = Store(r)
+        rec = store.get_job_raw(jid)
+        if not rec or rec.get("state") != "running" or rec.get("worker") != worker:
+            return False
+        n = int(rec.get("attempts") or 0)
+        reason = STOPPED_REASON.format(n=n, who=worker)
+        done = store.requeue(jid, reason, Dispatcher(r, config).enqueue)
+        if done:
+            log.warning("worker %s: job %s handed back (the worker was stopped)", worker, jid)
+        return done
+    except redis.RedisError as e:
+        log.warning("worker %s: job %s not handed back (%s); the sweeper will retry it",
+                    worker, jid, e)
+        return False
 
 
 _names = iter(range(1, 1 << 30))
@@ -385,6 +441,7 @@ def run_worker(url: str, config: Config, *, burst: bool = False,
                                    work_horse_killed_handler=_horse_killed_handler(),
                                    job_monitoring_interval=max(1, int(config.heartbeat_seconds)))
                 w.alive_ttl = config.alive_ttl
+                w.config = config
                 w.work(burst=burst, logging_level=log_level, with_scheduler=False)
                 if burst or _stop.is_set() or getattr(w, "_stop_requested", False):
                     return 0

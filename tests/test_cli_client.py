@@ -584,3 +584,31 @@ def test_a_missing_file_or_a_folder_is_one_nightjar_line(command, tmp_path, monk
     rec = json.loads(out)
     assert rec["status"] == "InputError" and rec["reason"] == err.strip()
     assert ":1:1:" not in err and err.startswith("nightjar: cannot read ")
+
+
+# -- a job without a conjecture is named as prove names it (QA) ------------------
+
+def test_proof_heads_a_file_without_conjecture_as_prove_does(service, capsys, tmp_path):
+    from service.cli_prove import obligation_text
+    sub = service.submit({"problems": [
+        {"main": "cnf3.nj", "files": {"cnf3.nj": "axiom a: p(c)\n"}},
+        {"main": "t.nj", "files": {"t.nj": "axiom a: p(c)\nconjecture t1: p(c)\n"}}]})
+    service.run()
+    sat, thm = (j["id"] for j in sub["jobs"])
+    assert obligation_text(None) == "satisfiability of the file"
+    assert obligation_text("t1") == "conjecture t1"
+    assert cli.main(["proof", sat]) == 0
+    assert capsys.readouterr().out.splitlines()[0] == \
+        f"# cnf3.nj: satisfiability of the file: Satisfiable (job {sat})"
+    assert cli.main(["proof", thm]) == 0
+    assert capsys.readouterr().out.splitlines()[0] == \
+        f"# t.nj: conjecture t1: Theorem (job {thm})"
+    assert cli.main(["proof", sub["batch"]]) == 0
+    heads = [ln for ln in capsys.readouterr().out.splitlines() if ln.startswith("=== ")]
+    assert heads == [f"=== cnf3.nj  satisfiability of the file  Satisfiable  (job {sat})",
+                     f"=== t.nj  conjecture t1  Theorem  (job {thm})"]
+    # prove says it in the same words (the real engine, a one-line file)
+    (tmp_path / "cnf3.nj").write_text("axiom a: p(c)\n")
+    assert cli.main(["prove", str(tmp_path / "cnf3.nj"), "--time-limit", "5"]) == 0
+    assert capsys.readouterr().out.splitlines()[0].startswith(
+        f"{tmp_path / 'cnf3.nj'}: satisfiability of the file: Satisfiable")

@@ -70,11 +70,18 @@ def test_cold_stop_hands_the_job_back(prod_redis, prod_api, prod_workers):
     time.sleep(1.2)                      # RQ ignores a second signal within 1 s
     w.send_signal(signal.SIGTERM)
     w.wait(30)
-    assert job_state(prod_api.store, jid) in ("running", "queued")
+    handed = prod_api.store.get_job(jid)
+    # handed back by the stopping worker, saying so (not "stopped answering",
+    # which the sweeper says of a worker that was lost)
+    assert handed["state"] == "queued", handed
+    assert handed["lost"].startswith("attempt 1 was cut short: its worker ") and \
+        handed["lost"].endswith(" was shut down; retried"), handed
+    assert "stopped answering" not in handed["lost"]
     prod_workers.start(1)
     rec = wait_until(lambda: (r := prod_api.store.get_job(jid)) and r["state"] == "done" and r,
                      90, what="job settled by the second worker")
     assert rec["attempts"] == 2 and rec["verdict"] == "Timeout", rec
+    assert rec["lost"] == handed["lost"], rec
     b = prod_api.store.get_batch(rec["batch"])
     assert b["states"]["done"] == 1 and sum(b["states"].values()) == 1, b
 
