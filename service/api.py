@@ -25,7 +25,6 @@ from __future__ import annotations
 
 import hashlib
 import json
-import posixpath
 
 import redis
 from flask import Blueprint, current_app, g, jsonify, request
@@ -81,55 +80,35 @@ def _bundle(obj, where: str, several_mains: bool = False) -> dict:
             "language": lang}
 
 
-def _looks_tptp(name: str, text: str) -> bool:
-    from worker.syntax import detect_language
-    return detect_language(text, name) == "tptp"
-
-
 def _with_axioms(axioms: dict, name: str, text: str) -> dict:
-    """A bundle of one conjecture file that includes the axiom file(s).  The
-    includes go at the end so the conjecture's own lines keep their numbers.
-    The axioms' ``language``, when given, is every file's (as ``--language``
-    is for ``prove``), the conjecture file's too."""
+    """A bundle of one conjecture file read with the axiom file(s): the
+    conjecture file is the main file, its text exactly as sent, and the axiom
+    mains are its ``context`` (``worker.syntax.load_bundle`` reads them as if
+    the main file ended with an include of each, but no line is added), so
+    every message about it is at its own lines and shows them.  The axioms'
+    ``language``, when given, is every file's (as ``--language`` is for
+    ``prove``), the conjecture file's too."""
     if name in axioms["files"]:
         raise BadRequest("bad_request", f"conjecture file {name!r} has the same name "
                                         f"as a file of the axioms")
     mains = axioms["main"] if isinstance(axioms["main"], list) else [axioms["main"]]
-    lang = axioms.get("language")
-    tptp = lang == "tptp" if lang else _looks_tptp(name, text)
-    incs = []
-    for m in mains:
-        rel = posixpath.relpath(m, posixpath.dirname(name) or ".")
-        incs.append(f"include('{rel}')." if tptp else f'include "{rel}"')
-    sep = "" if text.endswith("\n") or not text else "\n"
     files = dict(axioms["files"])
-    files[name] = text + sep + "\n".join(incs) + "\n"
-    return {"main": name, "files": files, "language": lang}
-
-
-AXIOMS_PROBE = ".nightjar-axioms.nj"   # the name of the probe below; never a user file
+    files[name] = text
+    return {"main": name, "files": files, "language": axioms.get("language"),
+            "context": list(mains)}
 
 
 def refuse_axiom_conjectures(axioms: dict) -> None:
     """An InputError at the first conjecture in the axiom files of an
     axioms-plus-conjectures submission: every conjecture there would become
     a job of each conjecture file, attributed to the wrong file.  The axiom
-    files are read the way the jobs read them (through an include), from a
-    probe file that includes every axiom main."""
-    from worker.syntax import bundle_reader, load_problem
+    files are read the way the jobs read them (as the context), on their own."""
+    from worker.syntax import load_bundle
     from worker.syntax.errors import InputError, Span
 
     mains = axioms["main"] if isinstance(axioms["main"], list) else [axioms["main"]]
-    files = dict(axioms["files"])
-    lang = axioms.get("language")
-    inc = "include('{}').\n" if lang == "tptp" else 'include "{}"\n'
-    files[AXIOMS_PROBE] = "".join(inc.format(m) for m in mains)
-    try:
-        problem = load_problem(AXIOMS_PROBE, bundle_reader(files), language=lang)
-    except InputError as e:
-        if e.span is not None and e.span.file == AXIOMS_PROBE:
-            return        # e.g. only empty axiom files: the jobs' own reading decides
-        raise
+    problem = load_bundle({"main": None, "files": axioms["files"],
+                           "language": axioms.get("language"), "context": mains})
     for st in problem.statements:
         if st.is_conjecture and st.span is not None:
             lines = (axioms["files"].get(st.span.file) or "").split("\n")
@@ -144,10 +123,9 @@ def refuse_axiom_conjectures(axioms: dict) -> None:
 def check_problem(bundle: dict) -> list:
     """Read and clausify; returns the obligations.  Raises InputError."""
     from worker.clausify import clausify
-    from worker.syntax import bundle_reader, load_problem
+    from worker.syntax import load_bundle
 
-    problem = load_problem(bundle["main"], bundle_reader(bundle["files"]),
-                           language=bundle.get("language"))
+    problem = load_bundle(bundle)
     obligations = problem.obligations()
     for c in obligations:
         clausify(problem, c)
@@ -189,10 +167,12 @@ def strategy_names() -> list[str]:
 
 
 def _reuse_key(bundle, conjecture, time_limit, settings) -> str:
-    canon = json.dumps({"files": bundle["files"], "main": bundle["main"],
-                        "language": bundle.get("language"), "conjecture": conjecture,
-                        "time_limit": time_limit, "settings": settings},
-                       sort_keys=True, separators=(",", ":"))
+    key = {"files": bundle["files"], "main": bundle["main"],
+           "language": bundle.get("language"), "conjecture": conjecture,
+           "time_limit": time_limit, "settings": settings}
+    if bundle.get("context"):
+        key["context"] = bundle["context"]     # the same files read otherwise
+    canon = json.dumps(key, sort_keys=True, separators=(",", ":"))
     return hashlib.sha256(canon.encode()).hexdigest()
 
 

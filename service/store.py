@@ -162,10 +162,13 @@ class Store:
     # -- problems ----------------------------------------------------------
     @staticmethod
     def problem_id(bundle: dict) -> str:
-        """Content address of a bundle {"main", "files": {name: text}}."""
-        canon = json.dumps({"main": bundle["main"], "files": bundle["files"],
-                            "language": bundle.get("language")},
-                           sort_keys=True, separators=(",", ":"))
+        """Content address of a bundle {"main", "files": {name: text}} (and
+        "context": the axiom files read after the main, when it has one)."""
+        key = {"main": bundle["main"], "files": bundle["files"],
+               "language": bundle.get("language")}
+        if bundle.get("context"):
+            key["context"] = bundle["context"]
+        canon = json.dumps(key, sort_keys=True, separators=(",", ":"))
         return hashlib.sha256(canon.encode()).hexdigest()[:32]
 
     def stage_problem(self, pipe, bundle: dict) -> str:
@@ -177,8 +180,10 @@ class Store:
             sha = hashlib.sha256(text.encode()).hexdigest()[:32]
             pipe.set(self.k_text(sha), zlib.compress(text.encode(), 6), nx=True)
             names[name] = sha
-        pipe.set(self.k_problem(pid), pack({"main": bundle["main"], "files": names,
-                                            "language": bundle.get("language")}), nx=True)
+        meta = {"main": bundle["main"], "files": names, "language": bundle.get("language")}
+        if bundle.get("context"):
+            meta["context"] = list(bundle["context"])
+        pipe.set(self.k_problem(pid), pack(meta), nx=True)
         return pid
 
     def load_problem_bundle(self, pid: str) -> dict | None:
@@ -188,7 +193,10 @@ class Store:
         names = list(meta["files"])
         blobs = self.r.mget([self.k_text(meta["files"][n]) for n in names])
         files = {n: zlib.decompress(b).decode() for n, b in zip(names, blobs)}
-        return {"main": meta["main"], "files": files, "language": meta.get("language")}
+        out = {"main": meta["main"], "files": files, "language": meta.get("language")}
+        if meta.get("context"):
+            out["context"] = meta["context"]
+        return out
 
     # -- submission --------------------------------------------------------
     def create_batch(self, owner: str, jobs: list[dict], *, label: str | None,

@@ -157,8 +157,9 @@ def test_axioms_with_many_conjectures(env):
     r = env.post({"axioms": ax, "conjectures": [
         {"name": "c3.nj", "text": "\n\nconjecture g: q(c) or\n"}]})
     assert r.status_code == 400
-    assert r.get_json()["error"]["file"] == "c3.nj"
-    assert r.get_json()["error"]["line"] in (3, 4)
+    err = r.get_json()["error"]
+    assert (err["file"], err["line"], err["col"]) == ("c3.nj", 3, 22)
+    assert err["text"].splitlines()[1].strip() == "conjecture g: q(c) or"
 
 
 def test_limits(env):

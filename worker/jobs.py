@@ -127,7 +127,7 @@ def decide_record(store, rec: dict, memory_mb: int | None) -> dict:
     import json
 
     from .pipeline import decide
-    from .syntax import bundle_reader, load_problem
+    from .syntax import load_bundle
     from .syntax.errors import InputError
 
     bundle = _retrying(store.load_problem_bundle, rec["problem"])   # Redis may be restarting
@@ -141,8 +141,7 @@ def decide_record(store, rec: dict, memory_mb: int | None) -> dict:
     # traceback, and with it every structure of the search, is gone.
     short = None
     try:
-        problem = load_problem(bundle["main"], bundle_reader(bundle["files"]),
-                               language=bundle.get("language"))
+        problem = load_bundle(bundle)
     except InputError as e:   # refused at submission, so only if the reader changed
         return _result(V.INPUT_ERROR, e.render(), conjecture=conj)
     except MemoryError:

@@ -757,9 +757,8 @@ def statement_places(bundle) -> dict:
     if not bundle or sum(len(t) for t in bundle["files"].values()) > MAX_PARSE_CHARS:
         return {}
     try:
-        from worker.syntax import bundle_reader, load_problem
-        problem = load_problem(bundle["main"], bundle_reader(bundle["files"]),
-                               language=bundle.get("language"))
+        from worker.syntax import load_bundle
+        problem = load_bundle(bundle)
     except Exception:
         return {}
     out = {}

@@ -214,6 +214,45 @@ def test_bad_input_is_refused_with_location_and_nothing_kept(api, workers):
     assert api.redis.llen("rq:queue:nj-batch") == 0
 
 
+def test_shared_axioms_read_the_conjecture_files_as_written(api, workers, tmp_path,
+                                                            monkeypatch):
+    """Axioms plus conjecture files through the API and through the client's
+    --axioms path (``submit_files``): a broken conjecture file is refused at
+    its own line, shown as written; valid ones get their verdicts from the
+    workers, and the stored problem is the file as sent."""
+    workers.start(1)
+    c = owner(api)
+    ax = "axiom a: forall x. p(x) implies q(x)\naxiom b: p(k)\n"
+    dangling = "\n\nconjecture h: q(k) and\n"
+    with pytest.raises(ApiError) as e:
+        c.submit({"axioms": {"main": "ax.nj", "files": {"ax.nj": ax}},
+                  "conjectures": [{"name": "c2.nj", "text": dangling}]})
+    err = e.value.error
+    assert (err["file"], err["line"], err["col"]) == ("c2.nj", 3, 23)
+    assert err["text"].splitlines()[1].strip() == "conjecture h: q(k) and"
+    monkeypatch.chdir(tmp_path)
+    (tmp_path / "ax.nj").write_text(ax)
+    (tmp_path / "dangling.nj").write_text(dangling)
+    (tmp_path / "good.nj").write_text("# two questions\nconjecture h: q(k)\nconjecture g: q(m)\n")
+    (tmp_path / "good.p").write_text("fof(t, conjecture, q(k)).\n")
+    (tmp_path / "ax.p").write_text("fof(a, axiom, ![X]: (p(X) => q(X))).\nfof(b, axiom, p(k)).\n")
+    from worker.syntax.errors import InputError
+    with pytest.raises((InputError, ApiError)) as e:
+        c.submit_files(["dangling.nj"], axioms=["ax.nj"])
+    text = e.value.render() if isinstance(e.value, InputError) else e.value.error["text"]
+    assert text.startswith("dangling.nj:3:23: error:") and "include" not in text.splitlines()[1]
+    sub = c.submit_files(["good.nj"], axioms=["ax.nj"], time_limit=10)
+    tsub = c.submit_files(["good.p"], axioms=["ax.p"], time_limit=10)
+    for s_ in (sub, tsub):
+        c.wait(s_["batch"], timeout=60)
+    got = [(j["file"], j["conjecture"], j["verdict"])
+           for s_ in (sub, tsub) for j in c.jobs(s_["batch"])]
+    assert got == [("good.nj", "h", "Theorem"), ("good.nj", "g", "CounterSatisfiable"),
+                   ("good.p", "t", "Theorem")]
+    assert c.problem(sub["jobs"][0]["id"])["text"] == (tmp_path / "good.nj").read_text()
+    assert c.problem(tsub["jobs"][0]["id"])["text"] == (tmp_path / "good.p").read_text()
+
+
 HOG_WORKER = """\
 import sys
 import worker.pipeline as pipeline

@@ -1,9 +1,9 @@
 """Reading problems: the public interface of the syntax package.
 
 * :func:`load_problem` reads a main file and its includes through a ``read``
-  function (sans-I/O); :func:`disk_reader` and :func:`bundle_reader` make
-  such functions; :func:`collect_bundle` gathers the files of a problem on the
-  user's side.
+  function (sans-I/O), :func:`load_bundle` a stored bundle; :func:`disk_reader`
+  and :func:`bundle_reader` make such functions; :func:`collect_bundle`
+  gathers the files of a problem on the user's side.
 * :func:`parse_text` reads one self-contained text.
 * :func:`require_conjecture` refuses a problem without a conjecture.
 
@@ -30,7 +30,7 @@ if sys.getrecursionlimit() < RECURSION_LIMIT:
     sys.setrecursionlimit(RECURSION_LIMIT)
 
 __all__ = [
-    "load_problem", "parse_text", "disk_reader", "bundle_reader", "collect_bundle",
+    "load_problem", "load_bundle", "parse_text", "disk_reader", "bundle_reader", "collect_bundle",
     "require_conjecture", "detect_language", "InputError", "LimitError", "Span",
     "Problem", "Statement", "Symbol", "Formula", "Atom", "Const", "Not", "And", "Or",
     "Implies", "Iff", "Quant", "TRUE", "FALSE", "MAX_DEPTH", "MAX_FILE_CHARS",
@@ -55,18 +55,29 @@ def _guard(fn, *a):
             gc.enable()
 
 
-def load_problem(main: str, read=None, *, language: str | None = None,
-                 include_root: str | None = None) -> Problem:
+def load_problem(main: str | None, read=None, *, language: str | None = None,
+                 include_root: str | None = None, context=None) -> Problem:
     """Read ``main`` and every file it includes through ``read(path) -> str``
     (default: the local disk).  ``language`` forces ``"native"`` or ``"tptp"``
     for every file; ``None`` tells them apart from the text (then the file
     ending).  ``include_root`` (default: the environment variable
-    ``NIGHTJAR_TPTP_ROOT``) is the second place an include is looked for."""
+    ``NIGHTJAR_TPTP_ROOT``) is the second place an include is looked for.
+    ``context``: names of files read after ``main`` as if it ended with an
+    include of each (shared axioms), with no text added to ``main``, so its
+    errors are at its own lines; ``main`` None reads the context alone."""
     if read is None:
         read = disk_reader()
     if include_root is None:
         include_root = os.environ.get("NIGHTJAR_TPTP_ROOT") or None
-    return _guard(Loader(read, language, include_root).load, main)
+    return _guard(Loader(read, language, include_root).load, main, context or ())
+
+
+def load_bundle(bundle: dict, library: str | None = None) -> Problem:
+    """Read a bundle ``{"main", "files", "language"?, "context"?}`` (what
+    the service stores for a job) from its own files: the one way the API's
+    check, the worker and the console read a stored problem."""
+    return load_problem(bundle["main"], bundle_reader(bundle["files"], library),
+                        language=bundle.get("language"), context=bundle.get("context"))
 
 
 def parse_text(text: str, name: str = "<input>", language: str | None = None) -> Problem:

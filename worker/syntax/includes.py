@@ -103,7 +103,17 @@ class Loader:
             raise InputError(f"cannot read '{path}': not text")
         return text
 
-    def load(self, main: str) -> Problem:
+    def load(self, main: str | None, context=()) -> Problem:
+        """The problem of ``main`` and its includes; then the files named in
+        ``context`` (bundle names) are read as if ``main`` ended with an
+        include of each, without a line of text being added to ``main``
+        (the shared axioms of conjecture files).  ``main`` None: the context
+        on its own, as if included by an empty main file at the top."""
+        context = [_norm(c) for c in context or ()]
+        if main is None:
+            statements = self.check_names(self.read_context(context, ""))
+            return Problem(statements, self.symbols.signature(), self.files, "",
+                           self.main_language)
         main = _norm(main)
         try:
             text = self._get(main)
@@ -115,19 +125,55 @@ class Loader:
             raise type(e)(e.message, Span(main, 1, 1), None, e.hint) from None
         if self.record is not None:
             self.record(main, text)
-        statements = self.check_names(self.parse_file(main, text, top=True))
+        statements = self.parse_file(main, text, top=True, context=bool(context))
+        if context:
+            self.stack.append(main)
+            try:
+                statements = statements + self.read_context(context, main)
+            finally:
+                self.stack.pop()
+        statements = self.check_names(statements)
         if not statements:
             raise InputError("the problem has no statements (its includes are empty)",
                              Span(main, 1, 1))
         return Problem(statements, self.symbols.signature(), self.files, main,
                        self.main_language)
 
+    def read_context(self, names: list, main: str) -> list:
+        """The statements of the context files, in order, each read as an
+        include of the whole file would read it (a file already read gives
+        its statements again, and check_names drops the repeats).  There is
+        no include line to point at: an error reading one names the file."""
+        out: list = []
+        for name in names:
+            if name == main:
+                raise InputError(f"'{name}' is the main file and cannot also be "
+                                 f"one of its axiom files")
+            if name in self.loaded:
+                out.extend(self.loaded[name])
+                continue
+            try:
+                text = self._get(name)
+            except FileNotFoundError:
+                raise InputError(f"cannot read '{name}': no such file") from None
+            except InputError as e:
+                if e.span is not None:
+                    raise
+                raise type(e)(e.message, Span(name, 1, 1), None, e.hint) from None
+            if self.record is not None:
+                self.record(name, text)
+            stmts = self.parse_file(name, text)
+            self.loaded[name] = stmts
+            out.extend(stmts)
+        return out
+
     def parse_text(self, name: str, text: str) -> Problem:
         statements = self.check_names(self.parse_file(name, text, top=True))
         return Problem(statements, self.symbols.signature(), self.files, name,
                        self.main_language)
 
-    def parse_file(self, name: str, text: str, top: bool = False) -> list:
+    def parse_file(self, name: str, text: str, top: bool = False,
+                   context: bool = False) -> list:
         if text.startswith(BOM):      # every reader's text passes here
             text = text[1:]
         src = Source(name, text)
@@ -150,7 +196,7 @@ class Loader:
             statements = parser.parse()
         finally:
             self.stack.pop()
-        if top and not statements and not parser.includes:
+        if top and not statements and not parser.includes and not context:
             what = "empty" if not text.strip() else "without statements (only comments)"
             hint = ("write a statement such as: axiom a1: p(x)" if lang == "native"
                     else "write a statement such as: fof(a1, axiom, p(a)).")
