@@ -768,46 +768,7 @@ def statement_places(bundle) -> dict:
     return out
 
 
-def graph_layout(steps: list[dict]) -> dict:
-    """Layered drawing of a derivation: depth 0 (inputs) on top, each step
-    one layer below its deepest parent; within a layer, nodes ordered by the
-    mean position of their parents (fewer crossings)."""
-    depth, layer_of = {}, {}
-    for st in steps:
-        ps = [p for p in st.get("parents") or [] if p in depth]
-        depth[st["id"]] = 1 + max(depth[p] for p in ps) if ps else 0
-    layers: dict[int, list] = {}
-    for st in steps:
-        layers.setdefault(depth[st["id"]], []).append(st)
-    pos = {}
-    for d in sorted(layers):
-        row = layers[d]
-        if d > 0:
-            row.sort(key=lambda st: (sum(pos[p] for p in st["parents"] if p in pos)
-                                     / max(1, len(st["parents"])), st["id"]))
-        for i, st in enumerate(row):
-            pos[st["id"]] = i
-            layer_of[st["id"]] = d
-    dx, dy, r, pad = 40, 60, 13, 22
-    widest = max((len(v) for v in layers.values()), default=1)
-    width = widest * dx + 2 * pad
-    nodes, where = [], {}
-    for d, row in layers.items():
-        off = (width - len(row) * dx) / 2 + dx / 2
-        for i, st in enumerate(row):
-            x, y = round(off + i * dx, 1), pad + d * dy
-            where[st["id"]] = (x, y)
-            nodes.append({"id": st["id"], "x": x, "y": y, "kind": st["_kind"],
-                          "title": f"{st['id']}. {st['_text']}  [{st['rule']}]"})
-    edges = []
-    for st in steps:
-        for p in st.get("parents") or []:
-            if p in where:
-                (x1, y1), (x2, y2) = where[p], where[st["id"]]
-                edges.append({"x1": x1, "y1": y1 + r, "x2": x2, "y2": y2 - r,
-                              "from": p, "to": st["id"]})
-    return {"nodes": nodes, "edges": edges, "width": width, "r": r,
-            "height": pad * 2 + max(layers, default=0) * dy}
+from .graph import graph_layout  # noqa: E402  (the derivation graph's drawing)
 
 
 @bp.get("/jobs/<jid>/proof")
@@ -876,6 +837,9 @@ def proof(jid):
 # =================================================================== models
 
 def model_view(model: dict) -> dict:
+    """The model page's tables; symbols in the order format_model lists
+    them (display.natural: u2 before u10)."""
+    from worker.models.display import natural
     n = int(model.get("size") or 0)
     dom = list(range(n))
 
@@ -885,7 +849,7 @@ def model_view(model: dict) -> dict:
     funs, preds = model.get("functions") or {}, model.get("predicates") or {}
     out = {"size": n, "domain": dom, "constants": [], "unary": [], "binary": [],
            "higher": [], "props": [], "unary_p": [], "binary_p": [], "higher_p": []}
-    for f in sorted(funs):
+    for f in sorted(funs, key=natural):
         t, k = table(funs[f]), funs[f].get("arity", 0)
         if k == 0:
             out["constants"].append({"name": f, "value": t.get((), "?")})
@@ -897,7 +861,7 @@ def model_view(model: dict) -> dict:
         else:
             out["higher"].append({"name": f, "arity": k,
                                   "entries": [(list(a), t[a]) for a in sorted(t)]})
-    for p in sorted(preds):
+    for p in sorted(preds, key=natural):
         t, k = table(preds[p]), preds[p].get("arity", 0)
         if k == 0:
             out["props"].append({"name": p, "value": bool(t.get((), False))})

@@ -14,6 +14,15 @@ variable whose name is already bound further out (shadowing), or is not an
 identifier, is printed under a fresh name (``x_1``), which reads back to the
 same formula.
 
+A TPTP distinct object (a name that starts and ends with ``"``, kept so by
+the TPTP reader: ``tptp.is_distinct_object``) is printed as the user wrote
+it, ``"a"``, by everything that prints for reading: terms, literals, clauses
+and formulas (proofs, clause listings, the checker's messages).  The native
+language has no distinct objects and its reader refuses ``"a"`` in a term, so
+statements and problems (``format_statement``, ``format_problem``: text that
+is read back) print such a name quoted, ``'"a"'``, an ordinary constant of
+that name.
+
 Roles: ``axiom``, ``hypothesis``, ``conjecture`` and ``negated_conjecture``
 print as themselves; every other TPTP role (definition, lemma, theorem, ...)
 prints as ``axiom`` with the original role in a comment.
@@ -25,6 +34,7 @@ import re
 
 from .formulas import And, Atom, Const, Iff, Implies, Not, Or, Quant
 from .terms import EQ
+from .tptp import is_distinct_object
 
 INFIX = {"*": 2, "+": 1}   # binding strength; higher binds tighter
 
@@ -61,9 +71,16 @@ def quote_name(name: str) -> str:
     return "'" + "".join(_escape(ch) for ch in name) + "'"
 
 
-def symbol_name(name: str, bound=None, head: bool = False) -> str:
+def symbol_name(name: str, bound=None, head: bool = False, reread: bool = False) -> str:
     """How a symbol is written: bare when that reads back as the symbol
-    (``head``: it is applied to arguments, where a number cannot stand)."""
+    (``head``: it is applied to arguments, where a number cannot stand); a
+    distinct object as written (``"a"``) unless the text is to be read back
+    (``reread``)."""
+    if not reread and not head and is_distinct_object(name):
+        # as the TPTP text had it (its escapes included); a character that
+        # does not print is written \u{HEX} there too
+        return name if name.isprintable() else "".join(
+            ch if ch.isprintable() else f"\\u{{{ord(ch):X}}}" for ch in name)
     if (is_identifier(name) and not (bound and name in bound)
             and not (head and name[0].isdigit())):
         return name
@@ -76,12 +93,13 @@ def var_name(v: int, names: dict | None) -> str:
     return f"X{v}"
 
 
-def format_term(t, names: dict | None = None, _ctx: int = 0, _bound=None) -> str:
+def format_term(t, names: dict | None = None, _ctx: int = 0, _bound=None,
+                _reread: bool = False) -> str:
     tt = type(t)
     if tt is int:
         return var_name(t, names)
     if tt is str:
-        return symbol_name(t, _bound)
+        return symbol_name(t, _bound, reread=_reread)
     f = t[0]
     if f in INFIX and len(t) == 3:
         p = INFIX[f]
@@ -89,29 +107,30 @@ def format_term(t, names: dict | None = None, _ctx: int = 0, _bound=None) -> str
         # parentheses: (x * y) * z, which is how people write associativity
         a = t[1]
         same = type(a) is tuple and len(a) == 3 and a[0] == f
-        left = format_term(a, names, p + 1 if same else p, _bound)
-        right = format_term(t[2], names, p + 1, _bound)
+        left = format_term(a, names, p + 1 if same else p, _bound, _reread)
+        right = format_term(t[2], names, p + 1, _bound, _reread)
         s = f"{left} {f} {right}"
         return f"({s})" if p < _ctx else s
     return (symbol_name(f, _bound, True) + "("
-            + ", ".join(format_term(a, names, 0, _bound) for a in t[1:]) + ")")
+            + ", ".join(format_term(a, names, 0, _bound, _reread) for a in t[1:]) + ")")
 
 
-def _format_pred(a, names, bound) -> str:
+def _format_pred(a, names, bound, reread=False) -> str:
     """An atom that is not an equation: a predicate named like an infix
     operator is written in prefix form with a quoted name."""
     if type(a) is tuple and a[0] in INFIX:
         return (quote_name(a[0]) + "("
-                + ", ".join(format_term(x, names, 0, bound) for x in a[1:]) + ")")
+                + ", ".join(format_term(x, names, 0, bound, reread) for x in a[1:]) + ")")
     if type(a) is tuple:
-        return format_term(a, names, 0, bound)
-    return symbol_name(a, bound)
+        return format_term(a, names, 0, bound, reread)
+    return symbol_name(a, bound, reread=True)     # a proposition, never an object
 
 
-def format_atom(a, names: dict | None = None, _bound=None) -> str:
+def format_atom(a, names: dict | None = None, _bound=None, _reread: bool = False) -> str:
     if type(a) is tuple and a[0] == EQ and len(a) == 3:
-        return f"{format_term(a[1], names, 0, _bound)} = {format_term(a[2], names, 0, _bound)}"
-    return _format_pred(a, names, _bound)
+        return (f"{format_term(a[1], names, 0, _bound, _reread)} = "
+                f"{format_term(a[2], names, 0, _bound, _reread)}")
+    return _format_pred(a, names, _bound, _reread)
 
 
 def format_literal(lit, names: dict | None = None, _bound=None) -> str:
@@ -153,10 +172,11 @@ _P_IFF, _P_IMP, _P_OR, _P_AND, _P_UNARY = 1, 2, 3, 4, 5
 class _Names:
     """Printed names of bound variables, kept unambiguous while printing."""
 
-    __slots__ = ("given", "printed", "bound")
+    __slots__ = ("given", "printed", "bound", "reread")
 
-    def __init__(self, given):
+    def __init__(self, given, reread=False):
         self.given = given or {}
+        self.reread = reread        # distinct objects as '"a"' (text read back)
         self.printed: dict = {}     # var -> printed name (for variables in scope)
         self.bound: dict = {}       # printed name -> count of binders in scope
 
@@ -181,22 +201,23 @@ class _Names:
             self.printed[v] = old
 
 
-def format_formula(f, names: dict | None = None, _ctx: int = 0) -> str:
-    """Print a formula with the fewest parentheses that read back the same."""
-    return _fmt(f, _Names(names), _ctx)
+def format_formula(f, names: dict | None = None, _ctx: int = 0, reread: bool = False) -> str:
+    """Print a formula with the fewest parentheses that read back the same
+    (distinct objects as written, ``"a"``, unless ``reread``)."""
+    return _fmt(f, _Names(names, reread), _ctx)
 
 
 def _fmt(f, nm: _Names, ctx: int) -> str:
     if isinstance(f, Atom):
-        return format_atom(f.term, _VarView(nm), nm.bound)
+        return format_atom(f.term, _VarView(nm), nm.bound, nm.reread)
     if isinstance(f, Const):
         return "true" if f.value else "false"
     if isinstance(f, Not):
         a = f.arg
         if isinstance(a, Atom) and type(a.term) is tuple and a.term[0] == EQ:
             view = _VarView(nm)
-            return (f"{format_term(a.term[1], view, 0, nm.bound)} != "
-                    f"{format_term(a.term[2], view, 0, nm.bound)}")
+            return (f"{format_term(a.term[1], view, 0, nm.bound, nm.reread)} != "
+                    f"{format_term(a.term[2], view, 0, nm.bound, nm.reread)}")
         return "not " + _fmt(a, nm, _P_UNARY)
     if isinstance(f, Quant):
         olds = [(v, nm.printed.get(v)) for v in f.vars]
@@ -254,8 +275,8 @@ def statement_keyword(role: str) -> str:
 
 def format_statement(st) -> str:
     kw = statement_keyword(st.role)
-    head = f"{kw} {symbol_name(st.name)}: "
-    body = format_formula(st.formula, st.varnames)
+    head = f"{kw} {symbol_name(st.name, reread=True)}: "
+    body = format_formula(st.formula, st.varnames, reread=True)
     if kw != st.role:
         return f"# {st.role}\n{head}{body}"
     return head + body
