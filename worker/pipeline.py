@@ -64,8 +64,8 @@ def decide(problem, conjecture, settings: V.Settings | None = None) -> dict:
             proof = out["proof"]
             proof.setdefault("conjecture", conjecture)
             tc = time.monotonic()
-            rep = _certify_proof(proof, problem, cp,
-                                 deadline + V.check_allowance(settings.limits.time))
+            allowance = V.check_allowance(settings.limits.time)
+            rep = _certify_proof(proof, problem, cp, deadline + allowance)
             res["figures"]["check_seconds"] = round(time.monotonic() - tc, 4)
             if rep.timed_out:
                 # never a verdict unchecked: the time ran out before the
@@ -73,7 +73,7 @@ def decide(problem, conjecture, settings: V.Settings | None = None) -> dict:
                 res["status"] = V.TIMEOUT
                 res["reason"] = (f"a proof was found after {tc - t0:.1f} s, but {rep.detail} "
                                  f"when the time limit plus the checking allowance "
-                                 f"({V.check_allowance(settings.limits.time):g} s) ran out; "
+                                 f"({allowance:g} s) ran out; "
                                  f"a longer time limit may settle it")
             elif not rep.ok:
                 res["proof"] = proof

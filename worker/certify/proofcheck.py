@@ -676,6 +676,7 @@ class _Checker:
         self.spot_checked = 0             # input clauses evaluated in small models
         self._defs_checked: dict = {}     # statement -> "" (fine) or a countermodel
         self._input_steps: dict = {}      # step id -> the input step (dict)
+        self.deadline = None              # time.monotonic() past which the replay stops
         self.finite_detail = ""
         self._objects = None              # the obligation's distinct objects, when needed
         for ic in cp.clauses:
@@ -695,7 +696,7 @@ class _Checker:
             raise Refused(f"the proof is for conjecture {proof.get('conjecture')!r}, "
                           f"the obligation is {self.cp.conjecture!r}")
         self._introduced()
-        deadline = getattr(self, "deadline", None)
+        deadline = self.deadline
         for n, step in enumerate(steps):
             if deadline is not None and not (n & 63) and time.monotonic() > deadline:
                 raise _OutOfTime()

@@ -115,16 +115,7 @@ class Loader:
             return Problem(statements, self.symbols.signature(), self.files, "",
                            self.main_language)
         main = _norm(main)
-        try:
-            text = self._get(main)
-        except FileNotFoundError:
-            raise InputError(f"cannot read '{main}': no such file") from None
-        except InputError as e:
-            if e.span is not None:
-                raise
-            raise type(e)(e.message, Span(main, 1, 1), None, e.hint) from None
-        if self.record is not None:
-            self.record(main, text)
+        text = self._read_whole(main)
         statements = self.parse_file(main, text, top=True, context=bool(context))
         if context:
             self.stack.append(main)
@@ -139,6 +130,21 @@ class Loader:
         return Problem(statements, self.symbols.signature(), self.files, main,
                        self.main_language)
 
+    def _read_whole(self, name: str) -> str:
+        """The text of a file read by name, not through an include line (the
+        main file, a context file): an error names the file at 1:1."""
+        try:
+            text = self._get(name)
+        except FileNotFoundError:
+            raise InputError(f"cannot read '{name}': no such file") from None
+        except InputError as e:
+            if e.span is not None:
+                raise
+            raise type(e)(e.message, Span(name, 1, 1), None, e.hint) from None
+        if self.record is not None:
+            self.record(name, text)
+        return text
+
     def read_context(self, names: list, main: str) -> list:
         """The statements of the context files, in order, each read as an
         include of the whole file would read it (a file already read gives
@@ -152,16 +158,7 @@ class Loader:
             if name in self.loaded:
                 out.extend(self.loaded[name])
                 continue
-            try:
-                text = self._get(name)
-            except FileNotFoundError:
-                raise InputError(f"cannot read '{name}': no such file") from None
-            except InputError as e:
-                if e.span is not None:
-                    raise
-                raise type(e)(e.message, Span(name, 1, 1), None, e.hint) from None
-            if self.record is not None:
-                self.record(name, text)
+            text = self._read_whole(name)
             stmts = self.parse_file(name, text)
             self.loaded[name] = stmts
             out.extend(stmts)
